@@ -1,0 +1,5 @@
+import sys
+
+from eddyphone.cli import main
+
+sys.exit(main())
