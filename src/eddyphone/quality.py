@@ -1,0 +1,259 @@
+"""Signal quality: a whole-recording score and per-window scores with named reasons.
+
+Public functions
+----------------
+assess(x, fs, config, source)  -> Quality
+clipping_fraction(x)           fraction of samples in flat runs at the peak level
+frame_energy(x, fs, frame_s)   short-time mean square in non-overlapping frames
+contrast_db(energy)            loud-to-quiet frame energy ratio, an SNR estimate
+periodicity(energy, frame_fs)  autocorrelation peak in the 40–200 bpm lag range
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from eddyphone.condition import bandpass, despike, detect_hum
+
+
+@dataclass(frozen=True)
+class QualityConfig:
+    """Quality settings.
+
+    Attributes
+    ----------
+    window_s : float
+        Length of the per-window scores (a last window shorter than half this
+        is merged into the previous one).
+    usable_threshold : float
+        Windows scoring below this are marked unusable and skipped by later stages.
+    band_hz : (float, float)
+        Band the heart sounds are measured in (common practice: S1 and S2 carry
+        most of their energy in 25–400 Hz).
+    good_contrast_db, poor_contrast_db : float
+        Loud-to-quiet frame energy ratio mapped to a sub-score of 1 and 0
+        (band-limited white noise alone measures about 4.6 dB).
+    good_periodicity, poor_periodicity : float
+        Normalised envelope autocorrelation peak mapped to a sub-score of 1 and 0
+        (noise alone measures about 0.1).
+    """
+
+    window_s: float = 4.0
+    usable_threshold: float = 0.35
+    band_hz: tuple[float, float] = (25.0, 400.0)
+    good_contrast_db: float = 18.0
+    poor_contrast_db: float = 6.0
+    good_periodicity: float = 0.55
+    poor_periodicity: float = 0.20
+
+
+@dataclass(frozen=True)
+class QualityMeasures:
+    """The measured quantities behind a score."""
+
+    contrast_db: float
+    periodicity: float
+    clipping_fraction: float
+    spikes_per_min: float
+    hum_hz: float | None
+
+
+@dataclass(frozen=True)
+class QualityWindow:
+    """Quality of one window of the recording."""
+
+    start_s: float
+    end_s: float
+    score: float
+    usable: bool
+    reasons: tuple[str, ...]
+    measures: QualityMeasures
+
+
+@dataclass(frozen=True)
+class Quality:
+    """Whole-recording quality, per-window scores and warnings."""
+
+    score: float
+    usable: bool
+    reasons: tuple[str, ...]
+    warnings: tuple[str, ...]
+    measures: QualityMeasures
+    windows: tuple[QualityWindow, ...]
+    threshold: float
+
+    def unusable_intervals(self) -> list[tuple[float, float]]:
+        """Time intervals (s) of windows marked unusable, adjacent ones merged."""
+        merged: list[list[float]] = []
+        for w in self.windows:
+            if w.usable:
+                continue
+            if merged and abs(merged[-1][1] - w.start_s) < 1e-9:
+                merged[-1][1] = w.end_s
+            else:
+                merged.append([w.start_s, w.end_s])
+        return [(a, b) for a, b in merged]
+
+    def to_dict(self) -> dict:
+        """JSON-ready form."""
+        return {
+            "score": round(self.score, 3),
+            "usable": self.usable,
+            "threshold": self.threshold,
+            "reasons": list(self.reasons),
+            "warnings": list(self.warnings),
+            "measures": _measures_dict(self.measures),
+            "windows": [
+                {"start_s": round(w.start_s, 3), "end_s": round(w.end_s, 3),
+                 "score": round(w.score, 3), "usable": w.usable, "reasons": list(w.reasons),
+                 **_measures_dict(w.measures)}
+                for w in self.windows
+            ],
+            "unusable_intervals_s": [[round(a, 3), round(b, 3)]
+                                     for a, b in self.unusable_intervals()],
+        }
+
+
+def _measures_dict(m: QualityMeasures) -> dict:
+    return {"contrast_db": round(m.contrast_db, 2), "periodicity": round(m.periodicity, 3),
+            "clipping_fraction": round(m.clipping_fraction, 5),
+            "spikes_per_min": round(m.spikes_per_min, 2), "hum_hz": m.hum_hz}
+
+
+def clipping_fraction(x: np.ndarray) -> float:
+    """Fraction of samples that sit in runs of two or more at the recording's peak level.
+
+    Clipped audio flattens at its extreme value; an unclipped signal reaches its
+    peak in isolated samples.
+    """
+    peak = float(np.max(np.abs(x)))
+    if peak <= 0:
+        return 0.0
+    at_peak = np.abs(x) >= 0.999 * peak
+    runs = at_peak[1:] & at_peak[:-1]
+    flagged = np.zeros_like(at_peak)
+    flagged[1:] |= runs
+    flagged[:-1] |= runs
+    return float(np.mean(flagged))
+
+
+def frame_energy(x: np.ndarray, fs: float, frame_s: float = 0.02) -> np.ndarray:
+    """Mean square of ``x`` in non-overlapping frames of ``frame_s`` seconds."""
+    n = max(1, int(round(frame_s * fs)))
+    m = len(x) // n
+    return np.mean(np.square(x[: m * n]).reshape(m, n), axis=1)
+
+
+def contrast_db(energy: np.ndarray) -> float:
+    """Ratio of loud (95th percentile) to quiet (10th percentile) frame energy, in dB.
+
+    Between heart sounds a clean recording is nearly silent, so the ratio
+    estimates the signal-to-noise ratio of the heart sounds.
+    """
+    loud, quiet = np.percentile(energy, [95, 10])
+    return float(10 * np.log10((loud + 1e-20) / (quiet + 1e-20)))
+
+
+def periodicity(energy: np.ndarray, frame_fs: float, *, min_bpm: float = 40.0,
+                max_bpm: float = 200.0) -> float:
+    """Highest normalised autocorrelation of the log-energy envelope at beat lags.
+
+    Lags span one beat at ``max_bpm`` to one beat at ``min_bpm``; 1 means
+    perfectly periodic, 0 no periodicity.
+    """
+    env = np.log(energy + 1e-12 * (np.max(energy) + 1e-30))
+    env = env - np.mean(env)
+    denom = float(np.dot(env, env))
+    lo = int(np.floor(frame_fs * 60.0 / max_bpm))
+    hi = min(int(np.ceil(frame_fs * 60.0 / min_bpm)), len(env) - 2)
+    if denom <= 0 or hi <= lo:
+        return 0.0
+    spectrum = np.fft.rfft(env, n=2 * len(env))
+    acf = np.fft.irfft(spectrum * np.conj(spectrum))[: len(env)]
+    acf = acf / denom
+    acf = acf * len(env) / (len(env) - np.arange(len(env)))  # unbiased: undo lag taper
+    return float(np.clip(np.max(acf[lo: hi + 1]), 0.0, 1.0))
+
+
+def _ramp(value: float, poor: float, good: float) -> float:
+    return float(np.clip((value - poor) / (good - poor), 0.0, 1.0))
+
+
+def _score(m: QualityMeasures, config: QualityConfig) -> tuple[float, tuple[str, ...]]:
+    s_contrast = _ramp(m.contrast_db, config.poor_contrast_db, config.good_contrast_db)
+    s_period = _ramp(m.periodicity, config.poor_periodicity, config.good_periodicity)
+    penalty = (1 - 0.7 * min(m.clipping_fraction / 0.02, 1.0)) \
+        * (1 - 0.5 * min(m.spikes_per_min / 60.0, 1.0)) * (0.9 if m.hum_hz else 1.0)
+    score = float(np.sqrt(s_contrast * s_period) * penalty)
+    reasons = []
+    if s_contrast < 0.5:
+        reasons.append(f"low signal-to-noise (heart sounds {m.contrast_db:.1f} dB above the floor)")
+    if s_period < 0.5:
+        reasons.append(f"weak beat-to-beat periodicity ({m.periodicity:.2f})")
+    if m.clipping_fraction > 0.001:
+        reasons.append(f"clipping ({100 * m.clipping_fraction:.2f} % of samples)")
+    if m.spikes_per_min > 6:
+        reasons.append(f"friction or handling spikes ({m.spikes_per_min:.0f} per minute)")
+    if m.hum_hz:
+        reasons.append(f"mains hum at {m.hum_hz:g} Hz")
+    return score, tuple(reasons)
+
+
+def _measure(raw: np.ndarray, heart: np.ndarray, fs: float,
+             hum_hz: float | None) -> QualityMeasures:
+    frame_s = 0.02
+    energy = frame_energy(heart, fs, frame_s)
+    _, spikes = despike(heart, fs)
+    minutes = len(heart) / fs / 60.0
+    return QualityMeasures(
+        contrast_db=contrast_db(energy),
+        periodicity=periodicity(energy, 1.0 / frame_s),
+        clipping_fraction=clipping_fraction(raw),
+        spikes_per_min=spikes / minutes if minutes > 0 else 0.0,
+        hum_hz=hum_hz,
+    )
+
+
+def _window_bounds(n: int, fs: float, window_s: float) -> list[tuple[int, int]]:
+    step = int(round(window_s * fs))
+    bounds = [(a, min(a + step, n)) for a in range(0, n, step)]
+    if len(bounds) > 1 and bounds[-1][1] - bounds[-1][0] < step / 2:
+        last = bounds.pop()
+        bounds[-1] = (bounds[-1][0], last[1])
+    return bounds
+
+
+def assess(x: np.ndarray, fs: float, config: QualityConfig | None = None) -> Quality:
+    """Score the quality of raw samples ``x`` (before conditioning) at rate ``fs``."""
+    config = config or QualityConfig()
+    raw = np.asarray(x, dtype=np.float64)
+    centred = raw - np.mean(raw)
+    hum_hz = detect_hum(centred, fs)
+    heart = bandpass(centred, fs, config.band_hz)
+    overall = _measure(raw, heart, fs, hum_hz)
+    score, reasons = _score(overall, config)
+    windows = []
+    for a, b in _window_bounds(len(raw), fs, config.window_s):
+        m = _measure(raw[a:b], heart[a:b], fs, hum_hz)
+        w_score, w_reasons = _score(m, config)
+        windows.append(QualityWindow(a / fs, b / fs, w_score, w_score >= config.usable_threshold,
+                                     w_reasons, m))
+    return Quality(score, score >= config.usable_threshold, reasons, _warnings(raw),
+                   overall, tuple(windows), config.usable_threshold)
+
+
+def _warnings(raw: np.ndarray) -> tuple[str, ...]:
+    out = []
+    clip = clipping_fraction(raw)
+    if clip > 0.001:
+        out.append(f"clipping: {100 * clip:.2f} % of samples sit flat at the peak level")
+    std = float(np.std(raw))
+    if abs(float(np.mean(raw))) > 0.1 * std and abs(float(np.mean(raw))) > 1e-3:
+        out.append(f"DC offset of {np.mean(raw):+.3f} full scale (removed before analysis)")
+    peak = float(np.max(np.abs(raw - np.mean(raw))))
+    if peak < 0.01:
+        out.append(f"very low level: peak {20 * np.log10(peak):.0f} dBFS; raise the gain if "
+                   "you can")
+    return tuple(out)

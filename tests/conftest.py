@@ -1,0 +1,30 @@
+"""Shared fixtures: small synthetic heart-sound-like signals written inside the tests."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import numpy as np
+import pytest
+
+REPO = Path(__file__).resolve().parents[1]
+SHARED_DATA = REPO.parent / "shared" / "data"
+SAMPLE_AUDIO = REPO / "sample_audio"
+
+
+def burst_train(duration_s: float = 8.0, fs: float = 4000.0, *, rr_s: float = 0.8,
+                seed: int = 0, amplitude: float = 0.5) -> np.ndarray:
+    """Pairs of short noise bursts (S1-like, S2-like) every ``rr_s`` s, peak ``amplitude``."""
+    rng = np.random.default_rng(seed)
+    t = np.arange(int(duration_s * fs)) / fs
+    x = np.zeros_like(t)
+    for onset in np.arange(0.1, duration_s - 0.5, rr_s):
+        for offset in (0.0, 0.35 * rr_s):
+            m = (t >= onset + offset) & (t < onset + offset + 0.06)
+            x[m] += rng.standard_normal(m.sum()) * np.hanning(m.sum())
+    return amplitude * x / np.max(np.abs(x))
+
+
+@pytest.fixture
+def heart_like() -> np.ndarray:
+    return burst_train()

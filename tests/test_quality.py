@@ -1,0 +1,58 @@
+"""Quality: monotonic in noise, named reasons, unusable windows, warnings."""
+
+from __future__ import annotations
+
+import numpy as np
+from conftest import burst_train
+from hypothesis import given, settings
+from hypothesis import strategies as st
+
+from eddyphone.quality import assess, clipping_fraction, periodicity
+
+FS = 4000.0
+
+
+@settings(max_examples=12, deadline=None)
+@given(seed=st.integers(0, 10_000), rr_s=st.floats(0.4, 1.3),
+       base=st.floats(0.001, 0.02))
+def test_score_falls_monotonically_as_noise_is_added(seed, rr_s, base):
+    x = burst_train(duration_s=10.0, rr_s=rr_s, seed=seed)
+    noise = np.random.default_rng(seed + 1).standard_normal(len(x))
+    scores = [assess(x + k * base * noise, FS).score for k in (1, 4, 16, 64, 256)]
+    assert all(b <= a + 1e-9 for a, b in zip(scores, scores[1:])), scores
+    assert scores[0] > 0.6 and scores[-1] < 0.3
+
+
+def test_noisy_window_is_marked_unusable_with_a_reason():
+    x = burst_train(duration_s=16.0)
+    rng = np.random.default_rng(5)
+    x[int(8 * FS): int(12 * FS)] += 2.0 * rng.standard_normal(int(4 * FS))
+    q = assess(x, FS)
+    flags = [w.usable for w in q.windows]
+    assert flags == [True, True, False, True]
+    assert q.unusable_intervals() == [(8.0, 12.0)]
+    assert any("signal-to-noise" in r for r in q.windows[2].reasons)
+    assert q.to_dict()["unusable_intervals_s"] == [[8.0, 12.0]]
+
+
+def test_clipping_measured_and_warned():
+    x = burst_train(duration_s=8.0, amplitude=1.0)
+    assert clipping_fraction(x) < 1e-4
+    clipped = np.clip(3 * x, -1, 1)
+    assert clipping_fraction(clipped) > 0.001
+    q = assess(clipped, FS)
+    assert any(w.startswith("clipping") for w in q.warnings)
+
+
+def test_low_level_and_dc_offset_are_warnings_not_errors():
+    q = assess(0.002 * burst_train(duration_s=8.0) + 0.05, FS)
+    text = " ".join(q.warnings)
+    assert "very low level" in text and "DC offset" in text
+
+
+def test_periodicity_high_for_a_beat_train_low_for_noise():
+    energy = np.zeros(500)
+    energy[::40] = 1.0  # a beat every 0.8 s at 50 frames per second
+    assert periodicity(energy + 1e-3, 50.0) > 0.9
+    noise = np.random.default_rng(0).random(500)
+    assert periodicity(noise, 50.0) < 0.3
