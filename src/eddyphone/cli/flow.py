@@ -176,9 +176,8 @@ def run(args: argparse.Namespace) -> int:
     """Compute and print the flow quantities the options allow."""
     import json
 
-    from eddyphone.physics.describe import describe_flow
-
     from eddyphone.errors import ParameterError
+    from eddyphone.physics.describe import describe_flow
 
     _check_options(args)
     kw = _si_inputs(args)
