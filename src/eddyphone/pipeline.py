@@ -1,0 +1,140 @@
+"""``analyze``: the stages composed, and the :class:`Analysis` they produce.
+
+load -> condition -> quality -> segment (envelopes, rhythm, HSMM) -> findings
+-> explain. The JSON form of an :class:`Analysis` is the output contract
+documented in ``docs/output-contract.md``.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Mapping
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any
+
+from eddyphone._version import __version__
+from eddyphone.cautions import GENERAL_CAUTIONS
+from eddyphone.condition import Conditioned, condition
+from eddyphone.config import Config
+from eddyphone.context import PatientContext
+from eddyphone.quality import Quality, assess
+from eddyphone.recording import Recording
+
+#: Version of the JSON output contract. Bump the minor number when keys are
+#: added, the major number when a key changes meaning or disappears.
+SCHEMA_VERSION = "1.0"
+
+
+@dataclass(frozen=True, eq=False)
+class Analysis:
+    """Everything ``analyze`` found for one recording."""
+
+    recording: Recording
+    conditioned: Conditioned
+    quality: Quality
+    segmentation: Any
+    findings: Any
+    explanation: Any
+    context: PatientContext | None
+    config: Config
+
+    def summary(self) -> dict:
+        """The headline: rhythm, murmur presence/phase/description, top mechanism."""
+        out: dict[str, Any] = {"quality_score": round(self.quality.score, 3)}
+        rhythm = getattr(self.segmentation, "rhythm", None)
+        if rhythm is not None:
+            out["heart_rate_bpm"] = round(rhythm.heart_rate_bpm, 1)
+            out["rhythm"] = "irregular" if rhythm.irregular else "regular"
+            out["beats"] = len(self.segmentation.beats)
+        else:
+            out.update(heart_rate_bpm=None, rhythm=None, beats=0)
+        if self.findings is not None:
+            out.update(self.findings.summary_dict())
+        else:
+            out.update(murmur="uncertain", murmur_phase=None, murmur_timing=None,
+                       murmur_shape=None, murmur_pitch=None, murmur_grade_range=None,
+                       extra_sounds=[], murmur_reason="murmur analysis is not available yet")
+        top = self.explanation.top() if self.explanation is not None else None
+        out["top_mechanism"] = top.name if top is not None else None
+        return out
+
+    def to_dict(self) -> dict:
+        """The JSON output contract (see ``docs/output-contract.md``)."""
+        seg = self.segmentation
+        return {
+            "schema_version": SCHEMA_VERSION,
+            "eddyphone_version": __version__,
+            "recording": {**self.recording.describe(), "conditioning":
+                          self.conditioned.describe()},
+            "context": self.context.to_dict() if self.context else {},
+            "quality": self.quality.to_dict(),
+            "rhythm": seg.rhythm.to_dict() if seg is not None else {},
+            "segments": [s.to_dict() for s in seg.segments] if seg is not None else [],
+            "beats": [b.to_dict() for b in seg.beats] if seg is not None else [],
+            "skipped": [{"start_s": a, "end_s": b, "reason": r} for a, b, r in seg.skipped]
+            if seg is not None else [],
+            "findings": self.findings.to_list() if self.findings is not None else [],
+            "summary": self.summary(),
+            "mechanisms": self.explanation.to_list() if self.explanation is not None else [],
+            "cautions": list(GENERAL_CAUTIONS)
+            + (list(self.explanation.cautions) if self.explanation is not None else []),
+            "config": {**self.config.to_dict(), "digest": self.config.digest()},
+        }
+
+
+def analyze(
+    recording: str | Path | Recording,
+    context: PatientContext | Mapping[str, object] | None = None,
+    config: Config | None = None,
+) -> Analysis:
+    """Analyse one recording: segmentation, findings and their physical explanation.
+
+    Parameters
+    ----------
+    recording : path or Recording
+        A file :func:`eddyphone.io.load` accepts, or a loaded recording.
+    context : PatientContext or mapping, optional
+        What is known about the patient (hematocrit, cardiac output, diameters...).
+    config : Config, optional
+        Settings; the defaults are documented with each stage.
+
+    Returns
+    -------
+    Analysis
+        ``to_dict()`` gives the JSON output contract.
+    """
+    from eddyphone.io import load
+    from eddyphone.segment import segment
+
+    config = config or Config()
+    rec = recording if isinstance(recording, Recording) else load(recording)
+    if isinstance(context, Mapping):
+        context = PatientContext.from_mapping(context)
+    if context is not None and context.site is None and rec.site:
+        from dataclasses import replace
+
+        from eddyphone.context import KNOWN_SITES
+
+        if rec.site in KNOWN_SITES:
+            context = replace(context, site=rec.site)
+    conditioned = condition(rec.x, rec.fs, config.condition)
+    quality = assess(rec.x, rec.fs, config.quality)
+    segmentation = segment(conditioned.x, conditioned.fs, quality=quality,
+                           config=config.segment)
+    findings = explanation = None
+    try:
+        from eddyphone.findings import describe
+    except ModuleNotFoundError:  # findings stage not built yet
+        describe = None
+    if describe is not None:
+        findings = describe(conditioned.x, conditioned.fs, segmentation, quality=quality,
+                            config=config.findings)
+        try:
+            from eddyphone.explain import explain
+        except ModuleNotFoundError:  # explanation stage not built yet
+            explain = None
+        if explain is not None:
+            explanation = explain(findings, context=context, recording=rec,
+                                  segmentation=segmentation)
+    return Analysis(rec, conditioned, quality, segmentation, findings, explanation, context,
+                    config)
