@@ -1,0 +1,198 @@
+"""``eddyphone analyze``: the full analysis of recordings, written to the output contract."""
+
+from __future__ import annotations
+
+import argparse
+
+NAME = "analyze"
+HELP = "segment, describe and explain recordings; write JSON, CSV and reports"
+ORDER = 10
+
+AUDIO_SUFFIXES = (".wav", ".flac", ".ogg", ".mp3", ".m4a", ".hea", ".aiff", ".aif")
+
+
+def add_arguments(parser: argparse.ArgumentParser) -> None:
+    """Register the options of ``analyze``."""
+    parser.add_argument("recordings", nargs="*", metavar="REC",
+                        help="recordings (audio files, .hea headers, or folders of them)")
+    parser.add_argument("--out", metavar="DIR", help="folder for the per-recording outputs")
+    parser.add_argument("--json", action="store_true",
+                        help="print the JSON of a single recording to stdout")
+    parser.add_argument("--no-report", action="store_true",
+                        help="skip the HTML/PDF reports and figures (JSON and CSV only)")
+    parser.add_argument("--overwrite", action="store_true",
+                        help="replace outputs that already exist in --out")
+    parser.add_argument("--config", metavar="FILE",
+                        help="JSON file of settings, by stage section (see docs/configuration.md)")
+    parser.add_argument("--channel", type=int,
+                        help="channel to analyse (default: the loudest in the heart band)")
+    group = parser.add_argument_group("patient context (all optional; used by the explanations)")
+    group.add_argument("--hematocrit", type=float, metavar="FRACTION",
+                       help="red-cell volume fraction, e.g. 0.42")
+    group.add_argument("--heart-rate-bpm", type=float, metavar="BPM")
+    group.add_argument("--cardiac-output-l-min", type=float, metavar="L_MIN")
+    group.add_argument("--stroke-volume-ml", type=float, metavar="ML")
+    group.add_argument("--diameter-mm", type=float, metavar="MM",
+                       help="diameter of the valve orifice or vessel under the stethoscope")
+    group.add_argument("--age-years", type=float, metavar="YEARS")
+    group.add_argument("--site", help="auscultation site (aortic, pulmonic, tricuspid, mitral, "
+                       "carotid, femoral, renal, fistula, other)")
+    group.add_argument("--posture", help="posture during the recording (e.g. supine, sitting)")
+    group.add_argument("--state", action="append", default=[], metavar="STATE",
+                       help="known state, repeatable: exercise, pregnancy, fever, anemia, "
+                       "thyrotoxicosis, sepsis, arteriovenous_fistula")
+    patient = parser.add_argument_group("patient view")
+    patient.add_argument("--patient", metavar="ID",
+                         help="treat all recordings as one patient's sites; adds a patient summary")
+    patient.add_argument("--manifest", metavar="CSV",
+                         help="CSV with columns path, patient, site, posture (one patient view "
+                         "per patient)")
+
+
+def run(args: argparse.Namespace) -> int:
+    """Analyse each recording; one line per result, one line per failure."""
+    import json
+    import sys
+    from pathlib import Path
+
+    from eddyphone.errors import EddyphoneError, InputError
+
+    if not args.out and not args.json:
+        raise InputError(None, "no output chosen", "pass --out DIR, or --json for one recording")
+    jobs = _jobs(args)
+    if not jobs:
+        raise InputError(None, "no recordings given", "pass recordings, folders or --manifest CSV")
+    if args.json and len(jobs) != 1:
+        raise InputError(None, f"--json prints one recording but {len(jobs)} were given",
+                         "pass a single recording, or use --out DIR")
+    config = _config(args.config)
+    out_dir = Path(args.out) if args.out else None
+    analyses, failures, stems = [], 0, {}
+    for path, meta in jobs:
+        try:
+            analysis = _analyse_one(path, meta, args, config)
+            if out_dir is not None:
+                from eddyphone.export import write_analysis
+
+                stem = analysis.recording.stem
+                if stem in stems:
+                    raise InputError(path, f"has the same name as {stems[stem]}, so its outputs "
+                                     "would overwrite those", "rename one of them, or analyse "
+                                     "them into separate --out folders")
+                stems[stem] = path
+                write_analysis(analysis, out_dir, overwrite=args.overwrite,
+                               report=not args.no_report)
+        except EddyphoneError as exc:
+            failures += 1
+            print(f"eddyphone: {exc}", file=sys.stderr)
+            continue
+        analyses.append(analysis)
+        if args.json:
+            print(json.dumps(analysis.to_dict(), indent=2, allow_nan=False))
+        else:
+            print(_one_line(analysis))
+    if out_dir is not None and analyses and (args.patient or args.manifest):
+        _patient_views(analyses, out_dir, args)
+    if out_dir is not None and analyses:
+        print(f"outputs in {out_dir}/", file=sys.stderr)
+    return 1 if failures else 0
+
+
+def _jobs(args: argparse.Namespace) -> list[tuple[str, dict]]:
+    """Expand folders, read the manifest, attach per-file metadata."""
+    from pathlib import Path
+
+    jobs: list[tuple[str, dict]] = []
+    if args.manifest:
+        from eddyphone.io.manifest import read_manifest
+
+        for row in read_manifest(args.manifest):
+            jobs.append((row.pop("path"), row))
+    for item in args.recordings:
+        path = Path(item)
+        if path.is_dir():
+            files = sorted(p for p in path.iterdir()
+                           if p.suffix.lower() in AUDIO_SUFFIXES and not p.name.startswith("."))
+            jobs.extend((str(p), {}) for p in files)
+        else:
+            jobs.append((item, {}))
+    for _, meta in jobs:
+        if args.patient:
+            meta.setdefault("patient", args.patient)
+        if args.posture:
+            meta.setdefault("posture", args.posture)
+    return jobs
+
+
+def _config(path: str | None):
+    from eddyphone.config import Config, config_from_dict
+
+    if not path:
+        return Config()
+    import json
+    from pathlib import Path
+
+    from eddyphone.errors import InputError
+
+    try:
+        return config_from_dict(json.loads(Path(path).read_text(encoding="utf-8")))
+    except (OSError, ValueError) as exc:
+        raise InputError(path, f"cannot read the settings file ({exc})",
+                         "give a JSON object of sections, e.g. {\"quality\": {\"window_s\": 5}}"
+                         ) from None
+
+
+def _analyse_one(path: str, meta: dict, args: argparse.Namespace, config):
+    from eddyphone.context import PatientContext
+    from eddyphone.errors import InputError, ParameterError
+    from eddyphone.io import load
+    from eddyphone.pipeline import analyze
+
+    site = meta.pop("site", None) or args.site
+    rec = load(path, channel=args.channel, site=site, posture=meta.pop("posture", None),
+               patient=meta.pop("patient", None), metadata=meta or None)
+    try:
+        context = PatientContext(
+            hematocrit=args.hematocrit, heart_rate_bpm=args.heart_rate_bpm,
+            cardiac_output_l_min=args.cardiac_output_l_min,
+            stroke_volume_ml=args.stroke_volume_ml, diameter_mm=args.diameter_mm,
+            age_years=args.age_years, site=_known_site(rec.site), states=tuple(args.state))
+    except ParameterError as exc:
+        raise InputError(path, str(exc), "correct the option and run again") from None
+    return analyze(rec, context=context, config=config)
+
+
+def _known_site(site: str | None) -> str | None:
+    from eddyphone.context import KNOWN_SITES
+
+    return site if site in KNOWN_SITES else (None if site is None else "other")
+
+
+def _one_line(analysis) -> str:
+    s = analysis.summary()
+    rate = f"{s['heart_rate_bpm']:.0f} bpm {s['rhythm']}" if s.get("heart_rate_bpm") else \
+        "rate not found"
+    murmur = s.get("murmur", "uncertain")
+    if murmur == "present":
+        words = [s.get(k) for k in ("murmur_timing", "murmur_phase", "murmur_shape")]
+        murmur = " ".join(w for w in words if w) + " murmur"
+        if s.get("murmur_grade_range"):
+            murmur += f", grade {s['murmur_grade_range']}"
+    else:
+        murmur = f"murmur {murmur}"
+    top = s.get("top_mechanism")
+    tail = f"; most likely: {top.replace('_', ' ')}" if top else ""
+    return f"{analysis.recording.source}: {rate}; quality {s['quality_score']:.2f}; {murmur}{tail}"
+
+
+def _patient_views(analyses, out_dir, args) -> None:
+    from eddyphone.findings import summarise_patient
+    from eddyphone.report import write_patient_report
+
+    groups: dict[str, list] = {}
+    for a in analyses:
+        groups.setdefault(a.recording.patient or "unknown", []).append(a)
+    for patient, group in groups.items():
+        summary = summarise_patient(group)
+        paths = write_patient_report(summary, group, out_dir, overwrite=args.overwrite)
+        print(f"patient {patient}: {len(group)} recordings; report {paths.get('html')}")
