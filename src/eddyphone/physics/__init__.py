@@ -14,6 +14,7 @@ from eddyphone.physics.blood import (
     NORMAL_HEMATOCRIT,
     PLASMA_VISCOSITY_PA_S,
 )
+from eddyphone.physics.describe import describe_flow
 from eddyphone.physics.flow import (
     TRANSITION_RE_HIGH,
     TRANSITION_RE_LOW,
@@ -35,6 +36,7 @@ from eddyphone.physics.jet import (
     strouhal_frequency_hz,
     strouhal_velocity_m_s,
 )
+from eddyphone.physics.sites import NORMAL_ADULT_AORTA, FlowSite
 from eddyphone.physics.units import (
     M3_S_PER_L_MIN,
     PA_PER_MMHG,
@@ -55,7 +57,9 @@ __all__ = [
     "FAHRAEUS_LINDQVIST_DIAMETER_M",
     "HEMATOCRIT_MAX",
     "HEMATOCRIT_MIN",
+    "FlowSite",
     "M3_S_PER_L_MIN",
+    "NORMAL_ADULT_AORTA",
     "NORMAL_HEMATOCRIT",
     "PA_PER_MMHG",
     "PLASMA_VISCOSITY_PA_S",
@@ -67,6 +71,7 @@ __all__ = [
     "area_m2",
     "bernoulli_pressure_drop_mmhg",
     "blood_viscosity_pa_s",
+    "describe_flow",
     "flow_from_velocity_m3_s",
     "flow_regime",
     "l_min_from_m3_s",

@@ -61,7 +61,7 @@ _UNITS = {
 
 _STEIN_SABBAH = (
     "normal human ascending aortas reach peak Reynolds numbers of about 5,700-8,900 "
-    "with only brief disturbance (Stein & Sabbah 1976)"
+    "(Stein & Sabbah 1976), so a value like this alone does not mean disease"
 )
 
 

@@ -124,8 +124,9 @@ def flow_regime(reynolds: float) -> str:
     while decelerating flow and flow past bends, branches or a stenosis becomes disturbed
     at lower ones. The critical peak Reynolds number of pulsatile flow rises with the
     Womersley number (Nerem & Seed 1972, from memory), and normal human ascending aortas
-    show peak Re of about 5,700-8,900 with only brief disturbances (Stein & Sabbah
-    1976). Treat 'turbulent' as "turbulence likely somewhere in the cycle", not as proof.
+    reach peak Re of about 5,700-8,900 (Stein & Sabbah 1976) with, in healthy valves,
+    only mildly disturbed flow (from memory). Treat 'turbulent' as "turbulence likely
+    somewhere in the cycle", not as proof.
     """
     re = non_negative("reynolds", reynolds, "")
     if re.ndim:
