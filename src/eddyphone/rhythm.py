@@ -1,0 +1,282 @@
+"""Heart rate, systolic interval and regularity.
+
+Public API
+----------
+envelope_autocorrelation
+    Normalised autocorrelation of an envelope.
+heart_rate_autocorrelation
+    Heart rate and systolic interval from the autocorrelation of an envelope
+    (the published method of Schmidt et al. 2010 / Springer et al. 2016), with
+    a physiological consistency check against halving and doubling.
+rr_statistics
+    Mean, coefficient of variation and irregularity of an RR series.
+rhythm_from_beats
+    A :class:`Rhythm` from S1 onsets, falling back to the autocorrelation estimate.
+Rhythm
+    Heart rate, systolic interval, RR series and regularity.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+import scipy.fft
+
+from eddyphone.errors import ParameterError
+from eddyphone.physiology import systolic_interval_s
+
+#: Coefficient of variation of RR above which a rhythm is flagged irregular. Resting
+#: sinus rhythm with respiratory arrhythmia stays below about 0.1; atrial
+#: fibrillation is typically well above 0.15 (common practice, from memory).
+IRREGULAR_RR_CV = 0.12
+
+
+@dataclass(frozen=True)
+class HeartRateEstimate:
+    """Result of :func:`heart_rate_autocorrelation`.
+
+    Attributes
+    ----------
+    heart_rate_bpm : float
+    systolic_interval_s : float
+        S1-onset to S2-onset interval.
+    confidence : float
+        Height of the autocorrelation at the chosen beat period, 0-1.
+    """
+
+    heart_rate_bpm: float
+    systolic_interval_s: float
+    confidence: float
+
+
+@dataclass(frozen=True)
+class Rhythm:
+    """Heart rate and regularity of one recording.
+
+    Attributes
+    ----------
+    heart_rate_bpm : float
+        ``60 / rr_mean_s`` when beats were found, else the autocorrelation estimate.
+    systolic_interval_s : float
+        Median S1-onset to S2-onset interval.
+    rr_s : tuple of float
+        Successive S1-onset intervals in seconds.
+    rr_mean_s, rr_cv : float or None
+        Mean RR interval and its coefficient of variation (None with < 2 intervals).
+    irregular : bool
+        ``rr_cv`` above ``IRREGULAR_RR_CV``.
+    confidence : float
+        0-1; how far the estimate can be trusted.
+    method : str
+        ``"beats"`` (from the segmentation) or ``"autocorrelation"``.
+    """
+
+    heart_rate_bpm: float
+    systolic_interval_s: float
+    rr_s: tuple[float, ...]
+    rr_mean_s: float | None
+    rr_cv: float | None
+    irregular: bool
+    confidence: float
+    method: str
+
+    def to_dict(self) -> dict:
+        """JSON-ready values (seconds rounded to 0.1 ms)."""
+        return {
+            "heart_rate_bpm": round(float(self.heart_rate_bpm), 2),
+            "systolic_interval_s": round(float(self.systolic_interval_s), 4),
+            "rr_s": [round(float(v), 4) for v in self.rr_s],
+            "rr_mean_s": None if self.rr_mean_s is None else round(float(self.rr_mean_s), 4),
+            "rr_cv": None if self.rr_cv is None else round(float(self.rr_cv), 4),
+            "irregular": bool(self.irregular),
+            "confidence": round(float(self.confidence), 3),
+            "method": self.method,
+        }
+
+
+def envelope_autocorrelation(env: np.ndarray, max_lag: int | None = None) -> np.ndarray:
+    """Autocorrelation of the mean-removed envelope, normalised to 1 at lag 0.
+
+    Parameters
+    ----------
+    env : ndarray
+        Envelope samples.
+    max_lag : int, optional
+        Last lag (in samples) to return; all lags by default.
+
+    Returns
+    -------
+    ndarray
+        ``ac[k]`` for ``k = 0 .. max_lag``.
+    """
+    v = np.asarray(env, dtype=float)
+    v = v - v.mean()
+    n = len(v)
+    nfft = scipy.fft.next_fast_len(2 * n, real=True)
+    spec = scipy.fft.rfft(v, nfft)
+    ac = scipy.fft.irfft(spec * np.conj(spec), nfft)[:n]
+    if ac[0] <= 0:
+        return np.zeros(n if max_lag is None else min(n, max_lag + 1))
+    ac = ac / ac[0]
+    return ac if max_lag is None else ac[: max_lag + 1]
+
+
+def _interp(ac: np.ndarray, lag: float) -> float:
+    lo = int(np.floor(lag))
+    if lo < 0 or lo + 1 >= len(ac):
+        return 0.0
+    w = lag - lo
+    return float((1 - w) * ac[lo] + w * ac[lo + 1])
+
+
+def _peak_lag(ac: np.ndarray, k: int) -> float:
+    """Parabolic refinement of a local maximum at index ``k``."""
+    if 0 < k < len(ac) - 1:
+        a, b, c = ac[k - 1], ac[k], ac[k + 1]
+        den = a - 2 * b + c
+        if den < 0:
+            return k + 0.5 * (a - c) / den
+    return float(k)
+
+
+def _local_maxima(ac: np.ndarray, lo: int, hi: int) -> np.ndarray:
+    seg = ac[lo: hi + 1]
+    if len(seg) < 3:
+        return np.array([], dtype=int)
+    idx = np.flatnonzero((seg[1:-1] > seg[:-2]) & (seg[1:-1] >= seg[2:])) + 1
+    return idx + lo
+
+
+def heart_rate_autocorrelation(env: np.ndarray, feature_fs: float, *, min_bpm: float = 40.0,
+                               max_bpm: float = 200.0) -> HeartRateEstimate:
+    """Heart rate and systolic interval from the autocorrelation of an envelope.
+
+    Candidate beat periods are the local maxima of the autocorrelation between
+    ``60 / max_bpm`` and ``60 / min_bpm``. Each is scored by its own height plus
+    half the mean height at the two lags where the S1-S2 cross peaks must lie for
+    that period (the systolic interval of the Weissler regression,
+    :func:`eddyphone.physiology.systolic_interval_s`, and the rest of the cycle).
+    A true period has both; its half (doubling) lacks them; its double (halving)
+    is lower because autocorrelation decays with lag. The systolic interval is
+    then the cross peak below the period nearest the regression value (the
+    autocorrelation cannot tell systole from diastole by itself).
+
+    Parameters
+    ----------
+    env : ndarray
+        Envelope at ``feature_fs`` (the homomorphic envelope works best).
+    feature_fs : float
+        Envelope rate in Hz.
+    min_bpm, max_bpm : float
+        Search range in beats per minute.
+
+    Returns
+    -------
+    HeartRateEstimate
+    """
+    if not (0 < min_bpm < max_bpm):
+        raise ParameterError(f"min_bpm={min_bpm} and max_bpm={max_bpm} must satisfy "
+                             "0 < min_bpm < max_bpm")
+    lo = max(2, int(np.floor(60.0 / max_bpm * feature_fs)))
+    hi = int(np.ceil(60.0 / min_bpm * feature_fs))
+    ac = envelope_autocorrelation(env, max_lag=hi + 2)
+    peaks = _local_maxima(ac, lo - 1, min(hi + 1, len(ac) - 1))
+    peaks = peaks[(peaks >= lo) & (peaks <= hi)]
+    if len(peaks) == 0:
+        # No periodic structure: fall back to 75 bpm with zero confidence.
+        hr = 75.0
+        return HeartRateEstimate(hr, systolic_interval_s(hr)[0], 0.0)
+    best_score, best_lag = -np.inf, float(peaks[0])
+    for k in peaks:
+        lag = _peak_lag(ac, int(k))
+        hr = 60.0 * feature_fs / lag
+        sys_reg = systolic_interval_s(float(np.clip(hr, 20.0, 250.0)))[0] * feature_fs
+        cross = 0.5 * (_interp(ac, sys_reg) + _interp(ac, lag - sys_reg))
+        score = _interp(ac, lag) + 0.5 * cross
+        if score > best_score:
+            best_score, best_lag = score, lag
+    hr = 60.0 * feature_fs / best_lag
+    sys_reg_s = systolic_interval_s(float(np.clip(hr, 20.0, 250.0)))[0]
+    sys_s = _systole_from_ac(ac, feature_fs, best_lag, sys_reg_s)
+    conf = float(np.clip(_interp(ac, best_lag), 0.0, 1.0))
+    return HeartRateEstimate(float(hr), sys_s, conf)
+
+
+def _systole_from_ac(ac: np.ndarray, feature_fs: float, period: float, sys_reg_s: float) -> float:
+    """Cross peak (or its mirror) nearest the regression, else the regression value."""
+    lo = max(1, int(0.08 * feature_fs))
+    hi = int(period - 0.08 * feature_fs)
+    cands = _local_maxima(ac, lo, hi)
+    if len(cands) == 0:
+        return sys_reg_s
+    k = cands[np.argmax(ac[cands])]
+    p = _peak_lag(ac, int(k)) / feature_fs
+    best = min((p, period / feature_fs - p), key=lambda v: abs(v - sys_reg_s))
+    # Trust the measured peak only near the regression (within 30 %).
+    return float(best) if abs(best - sys_reg_s) <= 0.3 * sys_reg_s else float(sys_reg_s)
+
+
+def rr_statistics(rr_s: np.ndarray, *, irregular_cv: float = IRREGULAR_RR_CV
+                  ) -> tuple[float | None, float | None, bool]:
+    """Mean RR, its coefficient of variation and the irregular-rhythm flag.
+
+    Parameters
+    ----------
+    rr_s : ndarray
+        RR intervals in seconds.
+    irregular_cv : float
+        Coefficient of variation above which the rhythm is called irregular.
+
+    Returns
+    -------
+    rr_mean_s, rr_cv : float or None
+        None when fewer than two intervals are given.
+    irregular : bool
+    """
+    rr = np.asarray(rr_s, dtype=float)
+    if len(rr) < 2:
+        return (float(rr[0]) if len(rr) else None), None, False
+    mean = float(rr.mean())
+    cv = float(rr.std(ddof=1) / mean) if mean > 0 else None
+    return mean, cv, bool(cv is not None and cv > irregular_cv)
+
+
+def rhythm_from_beats(s1_onsets_s: np.ndarray, rr_s: np.ndarray, systoles_s: np.ndarray,
+                      estimate: HeartRateEstimate, *, irregular_cv: float = IRREGULAR_RR_CV,
+                      beat_confidence: float = 1.0) -> Rhythm:
+    """Combine the beats of a segmentation with the autocorrelation estimate.
+
+    Parameters
+    ----------
+    s1_onsets_s : ndarray
+        S1 onset times (only used for the count).
+    rr_s : ndarray
+        RR intervals in seconds (beats whose next S1 was found).
+    systoles_s : ndarray
+        S1-onset to S2-onset intervals in seconds.
+    estimate : HeartRateEstimate
+        Autocorrelation estimate, used when fewer than two RR intervals exist.
+    irregular_cv : float
+        Threshold of the irregular flag.
+    beat_confidence : float
+        Mean confidence of the beats, 0-1.
+
+    Returns
+    -------
+    Rhythm
+    """
+    rr = np.asarray(rr_s, dtype=float)
+    mean, cv, irregular = rr_statistics(rr, irregular_cv=irregular_cv)
+    sys_s = float(np.median(systoles_s)) if len(systoles_s) else estimate.systolic_interval_s
+    if len(rr) >= 2 and mean:
+        hr = 60.0 / mean
+        agree = float(np.exp(-abs(hr - estimate.heart_rate_bpm) / 10.0))
+        conf = float(np.clip(beat_confidence * (0.5 + 0.5 * max(agree, estimate.confidence)),
+                             0.0, 1.0))
+        if irregular:
+            conf *= 0.8
+        return Rhythm(hr, sys_s, tuple(float(v) for v in rr), mean, cv, irregular, conf, "beats")
+    return Rhythm(estimate.heart_rate_bpm, estimate.systolic_interval_s,
+                  tuple(float(v) for v in rr), mean, cv, False,
+                  0.5 * estimate.confidence, "autocorrelation")

@@ -1,0 +1,377 @@
+"""Cycle segmentation: S1, systole, S2 and diastole of every beat.
+
+A duration-dependent hidden semi-Markov model (published method: Schmidt et al.
+2010, Springer et al. 2016) decoded by Viterbi over relative envelope features.
+State durations are conditioned on the heart rate and systolic interval found
+by the autocorrelation of the homomorphic envelope; a second pass re-decodes
+with the RR spread measured in the first, so irregular rhythms still segment.
+Windows that quality marked unusable are skipped and reported.
+
+Public API
+----------
+segment(x, fs, *, quality=None, config=SegmentConfig()) -> Segmentation
+SegmentConfig, Segmentation, Segment, Beat
+"""
+
+from __future__ import annotations
+
+from dataclasses import asdict, dataclass
+
+import numpy as np
+
+from eddyphone.envelope import Envelopes, envelopes
+from eddyphone.errors import InputError, ParameterError
+from eddyphone.rhythm import (
+    IRREGULAR_RR_CV,
+    HeartRateEstimate,
+    Rhythm,
+    heart_rate_autocorrelation,
+    rhythm_from_beats,
+)
+from eddyphone.segment.beats import Beat, Segment, beats_from_segments
+from eddyphone.segment.durations import STATES, duration_tables, state_durations
+from eddyphone.segment.emissions import EmissionModel, frame_features
+from eddyphone.segment.hsmm import viterbi_cyclic
+
+__all__ = ["Beat", "Segment", "SegmentConfig", "Segmentation", "segment"]
+
+METHOD = "hsmm-viterbi/logistic-emissions/v1"
+
+
+@dataclass(frozen=True)
+class SegmentConfig:
+    """Segmentation settings.
+
+    Attributes
+    ----------
+    feature_fs : float
+        Feature frame rate in Hz (50: one frame per 20 ms).
+    min_bpm, max_bpm : float
+        Heart-rate search range of the autocorrelation.
+    s1_duration_s, s2_duration_s : (float, float)
+        Mean and sd of the S1 and S2 durations (Schmidt et al. 2010, from memory:
+        122 +/- 22 ms and 92 +/- 22 ms).
+    systole_sd_s : float
+        Spread of the systole (S1 end to S2 start) duration, plus 5 % of its mean.
+    diastole_sd_fraction, diastole_sd_floor_s : float
+        Diastole duration sd = fraction * mean + floor (before the RR spread is added).
+    duration_floor_weight : float
+        Weight of a uniform floor mixed into every duration law (robustness to
+        premature beats and pauses).
+    irregular_rr_cv : float
+        RR coefficient of variation above which the rhythm is flagged irregular.
+    refine_hr_change : float
+        Relative change of heart rate between the autocorrelation and the first
+        decoding that triggers a second decoding with the measured rate.
+    chunk_s, overlap_s : float
+        Long runs are decoded in chunks of ``chunk_s`` overlapping by ``overlap_s``
+        (heart rate re-estimated per chunk; memory stays bounded).
+    min_run_s : float
+        Usable stretches shorter than this are skipped (too short for a rhythm).
+    emission_model : str or None
+        Path of an emission model JSON; None uses the shipped model.
+    """
+
+    feature_fs: float = 50.0
+    min_bpm: float = 40.0
+    max_bpm: float = 200.0
+    s1_duration_s: tuple[float, float] = (0.122, 0.022)
+    s2_duration_s: tuple[float, float] = (0.092, 0.022)
+    systole_sd_s: float = 0.025
+    diastole_sd_fraction: float = 0.07
+    diastole_sd_floor_s: float = 0.02
+    duration_floor_weight: float = 0.03
+    irregular_rr_cv: float = IRREGULAR_RR_CV
+    refine_hr_change: float = 0.05
+    chunk_s: float = 60.0
+    overlap_s: float = 6.0
+    min_run_s: float = 2.5
+    emission_model: str | None = None
+
+    def __post_init__(self) -> None:
+        if not 10.0 <= self.feature_fs <= 500.0:
+            raise ParameterError(f"feature_fs={self.feature_fs} must lie in 10-500 Hz")
+        if not 20.0 <= self.min_bpm < self.max_bpm <= 300.0:
+            raise ParameterError(
+                f"min_bpm={self.min_bpm}, max_bpm={self.max_bpm} must satisfy "
+                "20 <= min_bpm < max_bpm <= 300")
+        if self.chunk_s < 4 * self.overlap_s or self.overlap_s < 2.0:
+            raise ParameterError(
+                f"chunk_s={self.chunk_s} must be at least 4 x overlap_s={self.overlap_s}, "
+                "and overlap_s at least 2 s")
+        if not 0.0 <= self.duration_floor_weight < 0.5:
+            raise ParameterError(
+                f"duration_floor_weight={self.duration_floor_weight} must lie in [0, 0.5)")
+
+
+@dataclass(frozen=True)
+class Segmentation:
+    """Result of :func:`segment`.
+
+    Attributes
+    ----------
+    segments : tuple of Segment
+        In time order.
+    beats : tuple of Beat
+    rhythm : Rhythm
+    skipped : tuple of (start_s, end_s, reason)
+        Stretches not segmented and why.
+    feature_fs : float
+        Frame rate of the decoder in Hz (boundaries are multiples of its period).
+    method : str
+    """
+
+    segments: tuple[Segment, ...]
+    beats: tuple[Beat, ...]
+    rhythm: Rhythm
+    skipped: tuple[tuple[float, float, str], ...]
+    feature_fs: float
+    method: str
+
+    def segment_rows(self) -> list[tuple[float, float, str]]:
+        """``(start_s, end_s, label)`` rows for ``segments.csv``."""
+        return [(s.start_s, s.end_s, s.label) for s in self.segments]
+
+    def to_dict(self) -> dict:
+        """JSON-ready values."""
+        return {
+            "method": self.method,
+            "feature_fs_hz": self.feature_fs,
+            "rhythm": self.rhythm.to_dict(),
+            "segments": [s.to_dict() for s in self.segments],
+            "beats": [b.to_dict() for b in self.beats],
+            "skipped": [{"start_s": round(a, 4), "end_s": round(b, 4), "reason": r}
+                        for a, b, r in self.skipped],
+        }
+
+
+# --- envelopes of long signals in blocks ---------------------------------------------
+
+_BLOCK_S = 60.0
+_MARGIN_S = 2.0
+
+
+def _envelopes_blockwise(x: np.ndarray, fs: float, feature_fs: float) -> Envelopes:
+    hop = max(1, int(round(fs / feature_fs)))
+    block = int(_BLOCK_S * fs) // hop * hop
+    if len(x) <= block + 2 * int(_MARGIN_S * fs):
+        return envelopes(x, fs, feature_fs=feature_fs)
+    margin = int(_MARGIN_S * fs) // hop * hop
+    n_frames = len(x) // hop
+    parts: dict[str, list[np.ndarray]] = {k: [] for k in
+                                          ("homomorphic", "hilbert", "shannon", "low_band",
+                                           "mid_band")}
+    for a in range(0, n_frames * hop, block):
+        b = min(a + block, n_frames * hop)
+        lo, hi = max(0, a - margin), min(len(x), b + margin)
+        env = envelopes(x[lo:hi], fs, feature_fs=feature_fs)
+        first = (a - lo) // hop
+        count = (b - a) // hop
+        for k in parts:
+            parts[k].append(getattr(env, k)[first: first + count])
+    return Envelopes(**{k: np.concatenate(v) for k, v in parts.items()},
+                     feature_fs=fs / hop)
+
+
+# --- decoding of one chunk ------------------------------------------------------------
+
+@dataclass(frozen=True)
+class _Decoded:
+    starts: np.ndarray  # frames, relative to the chunk
+    ends: np.ndarray
+    states: np.ndarray
+    estimate: HeartRateEstimate
+
+
+def _tables(hr: float, sys_s: float, rr_spread_s: float, ffs: float, cfg: SegmentConfig):
+    laws = state_durations(hr, sys_s, s1_s=cfg.s1_duration_s, s2_s=cfg.s2_duration_s,
+                           systole_sd_s=cfg.systole_sd_s,
+                           diastole_sd_fraction=cfg.diastole_sd_fraction,
+                           diastole_sd_floor_s=cfg.diastole_sd_floor_s,
+                           rr_spread_s=rr_spread_s)
+    return duration_tables(laws, ffs, floor_weight=cfg.duration_floor_weight)
+
+
+def _decode_chunk(loglik: np.ndarray, homo: np.ndarray, ffs: float,
+                  cfg: SegmentConfig) -> _Decoded:
+    est = heart_rate_autocorrelation(homo, ffs, min_bpm=cfg.min_bpm, max_bpm=cfg.max_bpm)
+    ld, ls = _tables(est.heart_rate_bpm, est.systolic_interval_s, 0.0, ffs, cfg)
+    starts, ends, states, _ = viterbi_cyclic(loglik, ld, ls)
+    # Second pass with the rate, systolic interval and RR spread of the first.
+    s1 = starts[(states == 0) & (starts > 0)]
+    s2 = starts[(states == 2) & (starts > 0)]
+    if len(s1) >= 3:
+        rr = np.diff(s1) / ffs
+        rr_mean = float(np.mean(rr))
+        hr = 60.0 / rr_mean
+        cv = float(np.std(rr) / rr_mean)
+        pair = np.searchsorted(s2, s1)
+        ok = pair < len(s2)
+        sys = (s2[pair[ok]] - s1[ok]) / ffs
+        sys = sys[sys < 0.8 * rr_mean]
+        sys_s = float(np.median(sys)) if len(sys) else est.systolic_interval_s
+        if (abs(hr - est.heart_rate_bpm) > cfg.refine_hr_change * est.heart_rate_bpm
+                or cv > 0.5 * cfg.irregular_rr_cv
+                or abs(sys_s - est.systolic_interval_s) > 0.04):
+            hr = float(np.clip(hr, cfg.min_bpm * 0.9, cfg.max_bpm * 1.1))
+            spread = float(np.std(rr)) if cv > 0.5 * cfg.irregular_rr_cv else 0.0
+            ld, ls = _tables(hr, sys_s, spread, ffs, cfg)
+            starts, ends, states, _ = viterbi_cyclic(loglik, ld, ls)
+    return _Decoded(starts, ends, states, est)
+
+
+def _usable_runs(n_frames: int, ffs: float, quality, min_run_s: float
+                 ) -> tuple[list[tuple[int, int]], list[tuple[float, float, str]]]:
+    usable = np.ones(n_frames, dtype=bool)
+    skipped: list[tuple[float, float, str]] = []
+    if quality is not None:
+        for w in getattr(quality, "windows", ()):
+            if getattr(w, "usable", True):
+                continue
+            a = max(0, int(round(w.start_s * ffs)))
+            b = min(n_frames, int(round(w.end_s * ffs)))
+            if b > a:
+                usable[a:b] = False
+                reasons = "; ".join(getattr(w, "reasons", ()) or ("poor quality",))
+                skipped.append((a / ffs, b / ffs, f"unusable quality: {reasons}"))
+    runs: list[tuple[int, int]] = []
+    edges = np.flatnonzero(np.diff(np.concatenate([[0], usable.astype(int), [0]])))
+    for a, b in zip(edges[::2], edges[1::2], strict=True):
+        if (b - a) / ffs < min_run_s:
+            skipped.append((a / ffs, b / ffs,
+                            f"usable stretch shorter than {min_run_s:g} s"))
+        else:
+            runs.append((int(a), int(b)))
+    skipped.sort()
+    merged: list[tuple[float, float, str]] = []
+    for item in skipped:
+        if merged and abs(merged[-1][1] - item[0]) < 1e-9 and merged[-1][2] == item[2]:
+            merged[-1] = (merged[-1][0], item[1], item[2])
+        else:
+            merged.append(item)
+    return runs, merged
+
+
+def _chunks(a: int, b: int, chunk: int, overlap: int) -> list[tuple[int, int]]:
+    if b - a <= chunk:
+        return [(a, b)]
+    step = chunk - overlap
+    n = int(np.ceil((b - a - overlap) / step))
+    out = []
+    for i in range(n):
+        lo = a + i * step
+        out.append((lo, min(lo + chunk, b)))
+    if out[-1][1] < b:
+        out.append((b - chunk, b))
+    return out
+
+
+def _decode_run(feat: np.ndarray, homo: np.ndarray, model: EmissionModel, ffs: float,
+                cfg: SegmentConfig, a: int, b: int
+                ) -> tuple[list[tuple[int, int, int]], list[HeartRateEstimate], np.ndarray]:
+    """Decode frames a..b (absolute) in overlapping chunks and stitch the results."""
+    chunk = int(cfg.chunk_s * ffs)
+    overlap = int(cfg.overlap_s * ffs)
+    out: list[tuple[int, int, int]] = []
+    estimates = []
+    posts = []
+    for lo, hi in _chunks(a, b, chunk, overlap):
+        f = feat[lo:hi]
+        # Re-centre the relative features on this chunk (gain drift in long records).
+        f = (f - np.median(f, axis=0)) if (b - a) > chunk else f
+        loglik = model.log_likelihood(f)
+        posts.append((lo, hi, np.exp(loglik + model.log_prior)))
+        dec = _decode_chunk(loglik, homo[lo:hi], ffs, cfg)
+        estimates.append(dec.estimate)
+        segs = [(int(s) + lo, int(e) + lo, int(k))
+                for s, e, k in zip(dec.starts, dec.ends, dec.states, strict=True)]
+        if not out:
+            out = segs
+            continue
+        # Cut at the first S1 onset of the new chunk past the middle of the overlap.
+        mid = lo + overlap // 2
+        cut_seg = next((s for s in segs if s[2] == 0 and s[0] >= mid), None)
+        if cut_seg is None:
+            continue
+        cut = cut_seg[0]
+        kept = [s for s in out if s[0] < cut]
+        if kept and kept[-1][1] > cut:
+            kept[-1] = (kept[-1][0], cut, kept[-1][2])
+        out = kept + [s for s in segs if s[0] >= cut]
+    post = np.zeros((b - a, 4))
+    for lo, hi, p in posts:
+        post[lo - a: hi - a] = p
+    return out, estimates, post
+
+
+def segment(x: np.ndarray, fs: float, *, quality=None,
+            config: SegmentConfig | None = None) -> Segmentation:
+    """Segment a conditioned heart-sound signal into S1, systole, S2 and diastole.
+
+    Parameters
+    ----------
+    x : ndarray
+        Conditioned samples (band-passed, despiked; see :func:`eddyphone.condition.condition`).
+    fs : float
+        Sample rate in Hz.
+    quality : eddyphone.quality.Quality, optional
+        Its unusable windows are skipped and reported in ``skipped``.
+    config : SegmentConfig, optional
+        Settings; defaults documented on :class:`SegmentConfig`.
+
+    Returns
+    -------
+    Segmentation
+
+    Examples
+    --------
+    >>> from eddyphone.segment import segment
+    >>> seg = segment(x, 4000.0)  # doctest: +SKIP
+    >>> seg.rhythm.heart_rate_bpm, len(seg.beats)  # doctest: +SKIP
+    """
+    cfg = config or SegmentConfig()
+    x = np.asarray(x, dtype=float)
+    if x.ndim != 1:
+        raise InputError(None, f"x has shape {x.shape}, expected one channel",
+                         "pass a 1-D array of conditioned samples")
+    if len(x) < 0.5 * fs:
+        raise InputError(None, f"only {len(x) / fs:.2f} s of signal",
+                         "give at least a few seconds (two or more beats)")
+    model = EmissionModel.load(cfg.emission_model)
+    env = _envelopes_blockwise(x, fs, cfg.feature_fs)
+    ffs = env.feature_fs
+    feat = frame_features(env)
+    runs, skipped = _usable_runs(env.n_frames, ffs, quality, cfg.min_run_s)
+
+    segments: list[Segment] = []
+    scores: list[float] = []
+    estimates: list[HeartRateEstimate] = []
+    for a, b in runs:
+        segs, ests, post = _decode_run(feat, env.homomorphic, model, ffs, cfg, a, b)
+        estimates.extend(ests)
+        sound = post[:, 0] + post[:, 2]
+        for s, e, k in segs:
+            p = sound[s - a: e - a]
+            score = float(np.mean(p if k in (0, 2) else 1.0 - p))
+            segments.append(Segment(s / ffs, e / ffs, STATES[k]))
+            scores.append(score)
+
+    beats = beats_from_segments(segments, scores)
+    if estimates:
+        est = HeartRateEstimate(
+            float(np.median([e.heart_rate_bpm for e in estimates])),
+            float(np.median([e.systolic_interval_s for e in estimates])),
+            float(np.median([e.confidence for e in estimates])))
+    else:
+        est = HeartRateEstimate(float("nan"), float("nan"), 0.0)
+    rr = np.array([bt.rr_s for bt in beats if bt.rr_s is not None])
+    systoles = np.array([bt.systole_ms / 1000.0 for bt in beats])
+    mean_conf = float(np.mean([bt.confidence for bt in beats])) if beats else 0.0
+    rhythm = rhythm_from_beats(np.array([bt.s1_onset_s for bt in beats]), rr, systoles, est,
+                               irregular_cv=cfg.irregular_rr_cv, beat_confidence=mean_conf)
+    return Segmentation(tuple(segments), beats, rhythm, tuple(skipped), float(ffs), METHOD)
+
+
+def config_dict(config: SegmentConfig) -> dict:
+    """JSON-ready settings (for echoing into outputs)."""
+    return asdict(config)

@@ -1,0 +1,120 @@
+"""State-duration distributions of the segmenter, conditioned on heart rate.
+
+Each state's duration (in frames) is a Gaussian mixed with a small uniform floor
+over its allowed range, so that unusual but real durations (an early beat, a long
+pause) stay possible when the sounds clearly support them. Means follow the
+published scheme of Schmidt et al. 2010 / Springer et al. 2016: S1 and S2 fixed,
+systole = systolic interval - S1, diastole = beat period - systolic interval - S2.
+
+Public functions
+----------------
+state_durations
+    (mean_s, sd_s, min_s, max_s) of each state for one heart rate.
+duration_tables
+    Log probability mass and log survival tables for the Viterbi decoder.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+from scipy.special import ndtr
+
+STATES = ("S1", "systole", "S2", "diastole")
+
+
+@dataclass(frozen=True)
+class StateDuration:
+    """Duration law of one state, in seconds."""
+
+    mean_s: float
+    sd_s: float
+    min_s: float
+    max_s: float
+
+
+def state_durations(heart_rate_bpm: float, systolic_interval_s: float, *,
+                    s1_s: tuple[float, float], s2_s: tuple[float, float],
+                    systole_sd_s: float, diastole_sd_fraction: float,
+                    diastole_sd_floor_s: float, rr_spread_s: float = 0.0,
+                    ) -> tuple[StateDuration, ...]:
+    """Duration laws of S1, systole, S2 and diastole for one heart rate.
+
+    Parameters
+    ----------
+    heart_rate_bpm : float
+        Heart rate used for the mean beat period.
+    systolic_interval_s : float
+        S1-onset to S2-onset interval.
+    s1_s, s2_s : (float, float)
+        Mean and sd of the S1 and S2 durations in seconds.
+    systole_sd_s : float
+        Spread of the systole duration.
+    diastole_sd_fraction, diastole_sd_floor_s : float
+        Diastole sd = fraction * mean + floor.
+    rr_spread_s : float
+        Extra spread (sd of RR, seconds) added to the diastole for irregular rhythms.
+
+    Returns
+    -------
+    tuple of StateDuration
+        In the order of :data:`STATES`.
+    """
+    period = 60.0 / heart_rate_bpm
+    s1 = StateDuration(s1_s[0], s1_s[1], max(0.03, s1_s[0] - 3 * s1_s[1]),
+                       s1_s[0] + 3.5 * s1_s[1])
+    s2 = StateDuration(s2_s[0], s2_s[1], max(0.03, s2_s[0] - 3 * s2_s[1]),
+                       s2_s[0] + 3.5 * s2_s[1])
+    sys_mean = max(systolic_interval_s - s1_s[0], 0.02)
+    sys_sd = systole_sd_s + 0.05 * sys_mean
+    systole = StateDuration(sys_mean, sys_sd, max(0.02, sys_mean - 3.5 * sys_sd),
+                            sys_mean + 4.0 * sys_sd)
+    dia_mean = max(period - systolic_interval_s - s2_s[0], 0.04)
+    dia_sd = float(np.hypot(diastole_sd_fraction * dia_mean + diastole_sd_floor_s,
+                            rr_spread_s))
+    diastole = StateDuration(dia_mean, dia_sd, max(0.04, dia_mean - 3.5 * dia_sd),
+                             dia_mean + 4.5 * dia_sd)
+    return s1, systole, s2, diastole
+
+
+def duration_tables(laws: tuple[StateDuration, ...], feature_fs: float, *,
+                    floor_weight: float) -> tuple[np.ndarray, np.ndarray]:
+    """Log mass and log survival of each state's duration in frames.
+
+    Parameters
+    ----------
+    laws : tuple of StateDuration
+        One per state.
+    feature_fs : float
+        Frame rate in Hz.
+    floor_weight : float
+        Weight of the uniform floor mixed into each Gaussian (0-1).
+
+    Returns
+    -------
+    log_mass, log_survival : ndarray, shape (N, D + 1)
+        Column ``d`` is a duration of ``d`` frames; column 0 is impossible.
+    """
+    dmins = [max(1, int(np.floor(law.min_s * feature_fs))) for law in laws]
+    dmaxs = [max(dmins[i] + 1, int(np.ceil(law.max_s * feature_fs)))
+             for i, law in enumerate(laws)]
+    dmax = max(dmaxs)
+    d = np.arange(dmax + 1, dtype=float)
+    mass = np.zeros((len(laws), dmax + 1))
+    for i, law in enumerate(laws):
+        mu, sd = law.mean_s * feature_fs, max(law.sd_s * feature_fs, 0.5)
+        # Probability of each whole-frame duration: Gaussian mass in d +/- 1/2.
+        g = ndtr((d + 0.5 - mu) / sd) - ndtr((d - 0.5 - mu) / sd)
+        inside = (d >= dmins[i]) & (d <= dmaxs[i])
+        g = np.where(inside, g, 0.0)
+        total = g.sum()
+        g = g / total if total > 0 else inside / inside.sum()
+        mass[i] = (1 - floor_weight) * g + floor_weight * inside / inside.sum()
+    with np.errstate(divide="ignore"):
+        log_mass = np.log(mass)
+        surv = np.cumsum(mass[:, ::-1], axis=1)[:, ::-1]
+        log_surv = np.log(np.clip(surv, 0.0, 1.0))
+    log_mass[:, 0] = -np.inf
+    log_surv[:, 0] = 0.0
+    return log_mass, log_surv
