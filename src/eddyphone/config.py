@@ -12,6 +12,7 @@ from dataclasses import asdict, dataclass, field, fields, is_dataclass, replace
 
 from eddyphone.condition import ConditionConfig
 from eddyphone.quality import QualityConfig
+from eddyphone.segment import SegmentConfig
 
 
 @dataclass(frozen=True)
@@ -20,6 +21,7 @@ class Config:
 
     condition: ConditionConfig = field(default_factory=ConditionConfig)
     quality: QualityConfig = field(default_factory=QualityConfig)
+    segment: SegmentConfig = field(default_factory=SegmentConfig)
 
     def to_dict(self) -> dict:
         """JSON-ready nested dictionary."""

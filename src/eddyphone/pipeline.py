@@ -124,14 +124,14 @@ def analyze(
     findings = explanation = None
     try:
         from eddyphone.findings import describe
-    except ModuleNotFoundError:  # findings stage not built yet
+    except ImportError:  # findings stage not built yet
         describe = None
     if describe is not None:
         findings = describe(conditioned.x, conditioned.fs, segmentation, quality=quality,
                             config=config.findings)
         try:
             from eddyphone.explain import explain
-        except ModuleNotFoundError:  # explanation stage not built yet
+        except ImportError:  # explanation stage not built yet
             explain = None
         if explain is not None:
             explanation = explain(findings, context=context, recording=rec,
