@@ -162,3 +162,12 @@ def test_folder_and_cli(tmp_path, capsys):
     code = main(["evaluate", "--reference", str(ref_dir), "--results", str(tmp_path / "nope")])
     assert code == 2
     assert "results folder does not exist" in capsys.readouterr().err
+
+
+def test_detections_outside_the_annotated_span():
+    det = DET + [(0.2, 0.3, "S1"), (5.0, 5.1, "S2")]  # before/after the annotated beats
+    inside = evaluate_events(REF, det, tolerance_ms=60)
+    assert inside.scores["S1"].false_positives == 2
+    everything = evaluate_events(REF, det, tolerance_ms=60, within_reference=False)
+    assert everything.scores["S1"].false_positives == 3
+    assert everything.scores["S2"].false_positives == 1

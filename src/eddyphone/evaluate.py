@@ -200,8 +200,8 @@ class EventEvaluation:
 
 
 def evaluate_events(reference: Sequence[Interval], detected: Sequence[Interval], *,
-                    tolerance_ms: float = 60.0, labels: Sequence[str] = ("S1", "S2")
-                    ) -> EventEvaluation:
+                    tolerance_ms: float = 60.0, labels: Sequence[str] = ("S1", "S2"),
+                    within_reference: bool = True) -> EventEvaluation:
     """Score detected sounds against reference sounds.
 
     Parameters
@@ -212,6 +212,10 @@ def evaluate_events(reference: Sequence[Interval], detected: Sequence[Interval],
         Largest centre distance of a correct detection.
     labels : sequence of str
         Labels scored.
+    within_reference : bool
+        Score only detections whose centre lies inside the annotated span (first
+        reference start to last reference end, widened by the tolerance): sounds
+        outside what an annotator marked are neither right nor wrong.
 
     Returns
     -------
@@ -228,6 +232,10 @@ def evaluate_events(reference: Sequence[Interval], detected: Sequence[Interval],
     if not (tolerance_ms >= 0 and math.isfinite(tolerance_ms)):
         raise ParameterError(f"tolerance_ms={tolerance_ms!r} must be a non-negative number")
     tol = tolerance_ms / 1000.0
+    if within_reference and reference:
+        lo = min(s for s, _, _ in reference) - tol
+        hi = max(e for _, e, _ in reference) + tol
+        detected = [d for d in detected if lo <= 0.5 * (d[0] + d[1]) <= hi]
     scores: dict[str, EventScores] = {}
     errors = {}
     for label in labels:
@@ -485,7 +493,8 @@ def _reference_files(reference_dir: Path) -> dict[str, Path]:
 
 def evaluate_folder(reference_dir: str | Path, results_dir: str | Path,
                     tolerance_ms: float = 60.0,
-                    label_map: Mapping[str, str] | str | None = None) -> FolderEvaluation:
+                    label_map: Mapping[str, str] | str | None = None, *,
+                    within_reference: bool = True) -> FolderEvaluation:
     """Evaluate every ``<stem>.segments.csv`` in ``results_dir`` against its reference.
 
     References are ``<stem>.truth.csv`` files when the folder has any, else every
@@ -498,6 +507,8 @@ def evaluate_folder(reference_dir: str | Path, results_dir: str | Path,
         Centre tolerance of a correct detection.
     label_map : mapping or str, optional
         Raw reference label -> canonical label (see :func:`parse_label_map`).
+    within_reference : bool
+        See :func:`evaluate_events`.
 
     Returns
     -------
@@ -520,7 +531,7 @@ def evaluate_folder(reference_dir: str | Path, results_dir: str | Path,
             missing.append(stem)
             continue
         ev = evaluate_events(read_annotation(ref_path, lmap), read_annotation(res_path),
-                             tolerance_ms=tolerance_ms)
+                             tolerance_ms=tolerance_ms, within_reference=within_reference)
         records.append(RecordEvaluation(stem, str(ref_path), str(res_path), ev))
     if not records:
         raise InputError(str(res_dir), f"no <stem>.segments.csv matches the {len(refs)} "

@@ -21,6 +21,8 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("--label-map", metavar="MAP",
                         help="reference label spellings, e.g. '1=S1,2=systole,3=S2,4=diastole', "
                              "or a JSON/CSV file of raw,canonical pairs")
+    parser.add_argument("--count-outside", action="store_true",
+                        help="also score detections outside the annotated span as false")
     parser.add_argument("--json", action="store_true", help="print the full result as JSON")
     parser.add_argument("--out", metavar="FILE",
                         help="also write one row per recording to this CSV file")
@@ -39,7 +41,8 @@ def run(args: argparse.Namespace) -> int:
     from eddyphone.evaluate import evaluate_folder, parse_label_map
 
     result = evaluate_folder(args.reference, args.results, tolerance_ms=args.tolerance_ms,
-                             label_map=parse_label_map(args.label_map))
+                             label_map=parse_label_map(args.label_map),
+                             within_reference=not args.count_outside)
     if args.out:
         path = Path(args.out)
         with path.open("w", newline="", encoding="utf-8") as fh:
