@@ -1,0 +1,289 @@
+"""Case lists: the demo set of ``sample_audio/`` and the graded benchmark set.
+
+Public functions
+----------------
+demo_specs
+    The demo cases by name (a fictional community clinic's afternoon list).
+benchmark_specs
+    ``n`` graded cases over SNR, heart rate, murmur cause, rate and device.
+write_demo, write_benchmark
+    Generate and write a set, with an ``index.csv``.
+"""
+
+from __future__ import annotations
+
+import csv
+from pathlib import Path
+
+import numpy as np
+
+from eddyphone.simulate.chain import DEVICES
+from eddyphone.simulate.spec import MURMUR_CAUSES, SITES, CaseSpec, MurmurSpec
+
+#: The invented scenario of the demo set.
+DEMO_SCENARIO = ("Afternoon list of the Quillan Row Community Clinic, a fictional clinic: "
+                 "ten recordings taken by its nurse practitioner. Every patient is invented "
+                 "and every sound is synthetic.")
+
+
+def _d_from_area_cm2(area_cm2: float) -> float:
+    return float(np.sqrt(4 * area_cm2 * 1e-4 / np.pi))
+
+
+def demo_specs() -> dict[str, CaseSpec]:
+    """The demo set: ten cases of at most 20 s at 4 kHz, 16-bit.
+
+    Returns
+    -------
+    dict
+        Case id to :class:`CaseSpec`, in list order.
+    """
+    base = CaseSpec(duration_s=15.0, fs=4000.0, bit_depth=16)
+    cases = {
+        "01_resting_adult": base.with_(
+            heart_rate_bpm=66, rsa_swing_bpm=6, site="mitral", device="diaphragm", snr_db=24,
+            breathing=0.35, seed=101,
+            note="Resting adult, routine check; no murmur"),
+        "02_runner_after_exercise": base.with_(
+            heart_rate_bpm=112, respiration_per_min=22, rsa_swing_bpm=3, site="pulmonic",
+            device="bell", snr_db=20, breathing=0.6, s3=True, seed=102,
+            murmur=MurmurSpec(cause="high_flow", diameter_m=0.021, velocity_m_s=2.1,
+                              hematocrit=0.44),
+            note="Young runner just after a training run; soft flow murmur and S3"),
+        "03_older_adult_outflow": base.with_(
+            heart_rate_bpm=74, site="aortic", device="steep_tilt", snr_db=22, breathing=0.3,
+            s4=True, s2_split="single", seed=103,
+            murmur=MurmurSpec(cause="narrowed_outflow", diameter_m=_d_from_area_cm2(0.8),
+                              velocity_m_s=4.3),
+            note="Older adult, breathless on stairs; narrowed outflow valve, late-peaking"),
+        "04_severe_anemia": base.with_(
+            heart_rate_bpm=104, site="pulmonic", device="diaphragm", snr_db=22, breathing=0.4,
+            seed=104,
+            murmur=MurmurSpec(cause="low_viscosity", diameter_m=0.022, velocity_m_s=1.8,
+                              hematocrit=0.19),
+            note="Adult with severe anemia (hematocrit 19%); soft early ejection murmur"),
+        "05_systolic_leak": base.with_(
+            heart_rate_bpm=82, site="mitral", device="diaphragm", snr_db=20, breathing=0.3,
+            s3=True, seed=105,
+            murmur=MurmurSpec(cause="systolic_leak", diameter_m=0.005, velocity_m_s=5.0),
+            note="Adult with a leaking inflow valve; holosystolic plateau murmur"),
+        "06_noisy_room": base.with_(
+            heart_rate_bpm=78, site="tricuspid", device="diaphragm", snr_db=8, breathing=0.4,
+            speech=0.45, friction_per_min=14, hum_hz=50.0, hum_db=-12, seed=106,
+            note="Normal heart recorded in a busy waiting room: speech, friction, mains hum"),
+        "07_fast_irregular": base.with_(
+            heart_rate_bpm=128, rhythm="irregular", site="mitral", device="bell", snr_db=18,
+            breathing=0.3, seed=107,
+            note="Palpitations; fast irregular rhythm, no murmur"),
+        "08_diastolic_rumble": base.with_(
+            heart_rate_bpm=78, site="mitral", device="bell", snr_db=22, breathing=0.25,
+            opening_snap=True, seed=108,
+            murmur=MurmurSpec(cause="narrowed_inflow", diameter_m=_d_from_area_cm2(1.0),
+                              velocity_m_s=2.0),
+            note="Narrowed inflow valve: opening snap, mid-diastolic rumble, "
+                 "presystolic accent"),
+        "09_diastolic_leak": base.with_(
+            heart_rate_bpm=64, site="tricuspid", device="diaphragm", snr_db=24, breathing=0.3,
+            seed=109,
+            murmur=MurmurSpec(cause="diastolic_leak", diameter_m=0.005, velocity_m_s=4.2),
+            note="Leaking outflow valve; early diastolic decrescendo"),
+        "10_continuous_shunt": base.with_(
+            heart_rate_bpm=96, site="pulmonic", device="diaphragm", snr_db=22, breathing=0.3,
+            ectopic_rate=0.05, seed=110,
+            murmur=MurmurSpec(cause="continuous", diameter_m=0.006, velocity_m_s=4.5),
+            note="Young adult with an open shunt; continuous murmur through S2, "
+                 "occasional early beats"),
+    }
+    return cases
+
+
+def _draw_murmur(cause: str, rng: np.random.Generator) -> MurmurSpec:
+    u = rng.uniform
+    if cause == "high_flow":
+        return MurmurSpec(cause, diameter_m=u(0.018, 0.024), velocity_m_s=u(1.6, 2.5),
+                          hematocrit=u(0.38, 0.48))
+    if cause == "low_viscosity":
+        return MurmurSpec(cause, diameter_m=u(0.019, 0.024), velocity_m_s=u(1.4, 2.1),
+                          hematocrit=u(0.15, 0.28))
+    if cause == "wall_irregularity":
+        return MurmurSpec(cause, diameter_m=u(0.020, 0.026), velocity_m_s=u(1.3, 2.0),
+                          hematocrit=u(0.38, 0.47), transition_factor=u(0.3, 0.6))
+    if cause == "narrowed_outflow":
+        return MurmurSpec(cause, diameter_m=_d_from_area_cm2(u(0.6, 1.5)),
+                          velocity_m_s=u(2.5, 5.0), hematocrit=u(0.36, 0.48))
+    if cause == "systolic_leak":
+        return MurmurSpec(cause, diameter_m=u(0.003, 0.008), velocity_m_s=u(4.0, 6.0))
+    if cause == "diastolic_leak":
+        return MurmurSpec(cause, diameter_m=u(0.003, 0.007), velocity_m_s=u(3.0, 4.8))
+    if cause == "narrowed_inflow":
+        return MurmurSpec(cause, diameter_m=_d_from_area_cm2(u(0.8, 2.0)),
+                          velocity_m_s=u(1.5, 2.5))
+    return MurmurSpec("continuous", diameter_m=u(0.003, 0.007), velocity_m_s=u(3.5, 5.0))
+
+
+def benchmark_specs(n: int, *, seed: int = 0, duration_s: float = 15.0) -> list[CaseSpec]:
+    """A graded benchmark set of ``n`` cases.
+
+    SNR is spread evenly over 0-30 dB and heart rate over 40-180 bpm (stratified, then
+    shuffled); about a third of the cases have no murmur and the rest cycle through
+    every murmur cause; sample rates 2, 3, 4 and 8 kHz; every device response; about
+    one case in five is irregular; breathing everywhere, friction, hum and speech in
+    some, in normal and murmur cases alike.
+
+    Parameters
+    ----------
+    n : int
+        Number of cases (1 or more).
+    seed : int
+        Seed of the draw; case ``i`` gets seed ``seed * 100003 + i``.
+    duration_s : float
+        Length of each case.
+    """
+    from eddyphone.errors import ParameterError
+
+    if n < 1:
+        raise ParameterError(f"n={n!r} must be at least 1")
+    rng = np.random.default_rng(seed)
+    snr = rng.permutation(np.linspace(0.0, 30.0, n)) if n > 1 else np.array([15.0])
+    hr = rng.permutation(np.linspace(40.0, 180.0, n)) if n > 1 else np.array([75.0])
+    causes = [c for c in MURMUR_CAUSES if c != "none"]
+    labels = []
+    for i in range(n):
+        labels.append("none" if i % 3 == 0 else causes[(i - i // 3 - 1) % len(causes)])
+    labels = list(rng.permutation(labels))
+    devices = sorted(DEVICES)
+    out = []
+    for i in range(n):
+        cause = labels[i]
+        irregular = rng.uniform() < 0.2
+        murmur = None if cause == "none" else _draw_murmur(cause, rng)
+        sinus = not irregular
+        out.append(CaseSpec(
+            heart_rate_bpm=float(np.round(hr[i], 1)),
+            rhythm="irregular" if irregular else "sinus",
+            ectopic_rate=float(rng.choice([0.0, 0.0, 0.0, 0.04, 0.1])),
+            respiration_per_min=float(rng.uniform(10, 24)),
+            rsa_swing_bpm=float(rng.uniform(1, 10)),
+            duration_s=duration_s,
+            fs=float(rng.choice([2000.0, 3000.0, 4000.0, 4000.0, 8000.0])),
+            bit_depth=16,
+            sex=str(rng.choice(["male", "female"])),
+            murmur=murmur,
+            s3=bool(rng.uniform() < 0.15),
+            s4=bool(sinus and rng.uniform() < 0.12),
+            ejection_click=bool(cause == "narrowed_outflow" and rng.uniform() < 0.3),
+            opening_snap=bool(cause == "narrowed_inflow" and rng.uniform() < 0.7),
+            s2_split=str(rng.choice(["physiological"] * 6 + ["fixed", "single"])),
+            snr_db=float(np.round(snr[i], 2)),
+            device=devices[i % len(devices)] if rng.uniform() < 0.8 else "steep_tilt",
+            chest_wall_cutoff_hz=float(rng.uniform(150, 600)),
+            breathing=float(rng.uniform(0.1, 0.7)),
+            speech=float(rng.choice([0.0, 0.0, 0.0, rng.uniform(0.1, 0.5)])),
+            friction_per_min=float(rng.choice([0.0, 0.0, rng.uniform(2, 20)])),
+            hum_hz=rng.choice([None, None, None, None, 50.0, 60.0]),
+            hum_db=float(rng.uniform(-30, -6)),
+            peak_dbfs=float(rng.uniform(-12, -0.5)),
+            overdrive_db=float(rng.choice([0.0] * 9 + [rng.uniform(1, 6)])),
+            site=str(rng.choice(SITES)),
+            seed=int(seed * 100003 + i),
+            note=f"benchmark case {i}",
+        ))
+    return out
+
+
+_INDEX_FIELDS = ["id", "file", "truth_csv", "truth_json", "heart_rate_bpm", "rhythm",
+                 "n_premature", "fs_hz", "duration_s", "snr_db", "device", "site",
+                 "murmur_present", "murmur_cause", "murmur_phase", "murmur_timing",
+                 "murmur_shape", "murmur_grade", "murmur_level_db_re_s1", "murmur_pitch",
+                 "murmur_centre_hz", "reynolds", "peak_velocity_m_s", "diameter_m",
+                 "hematocrit", "s3", "s4", "click", "snap", "s2_split", "breathing",
+                 "speech", "friction_per_min", "hum_hz", "clipped_fraction", "note"]
+
+
+def _index_row(case_id: str, sim, spec: CaseSpec) -> dict:
+    t = sim.truth
+    m = t["murmur"]
+    phys = m.get("physics", {})
+    return {
+        "id": case_id, "file": f"{case_id}.wav", "truth_csv": f"{case_id}.truth.csv",
+        "truth_json": f"{case_id}.truth.json",
+        "heart_rate_bpm": round(t["rhythm"]["heart_rate_bpm"], 2),
+        "rhythm": spec.rhythm, "n_premature": t["rhythm"]["n_premature"],
+        "fs_hz": int(spec.fs), "duration_s": spec.duration_s,
+        "snr_db": round(t["noise"]["snr_db"], 2), "device": spec.device, "site": spec.site,
+        "murmur_present": m["present"], "murmur_cause": m["cause"],
+        "murmur_phase": m.get("phase", ""), "murmur_timing": m.get("timing", ""),
+        "murmur_shape": m.get("shape", ""), "murmur_grade": m.get("grade", 0),
+        "murmur_level_db_re_s1": round(m["level_db_re_s1"], 2) if "level_db_re_s1" in m else "",
+        "murmur_pitch": m.get("pitch", ""),
+        "murmur_centre_hz": round(m["centre_hz"], 1) if "centre_hz" in m else "",
+        "reynolds": round(phys["reynolds"]) if phys else "",
+        "peak_velocity_m_s": round(phys["peak_velocity_m_s"], 3) if phys else "",
+        "diameter_m": round(phys["diameter_m"], 5) if phys else "",
+        "hematocrit": round(phys["hematocrit"], 3) if phys else "",
+        "s3": spec.s3, "s4": spec.s4, "click": spec.ejection_click, "snap": spec.opening_snap,
+        "s2_split": spec.s2_split, "breathing": round(spec.breathing, 3),
+        "speech": round(spec.speech, 3), "friction_per_min": round(spec.friction_per_min, 2),
+        "hum_hz": spec.hum_hz or "", "clipped_fraction": t["recording"]["clipped_fraction"],
+        "note": spec.note,
+    }
+
+
+def _write_set(specs: dict[str, CaseSpec], out_dir: str | Path, *, overwrite: bool,
+               index_name: str = "index.csv") -> Path:
+    from eddyphone.errors import InputError
+    from eddyphone.simulate.generator import generate
+    from eddyphone.simulate.writer import write
+
+    out = Path(out_dir)
+    index = out / index_name
+    if index.exists() and not overwrite:
+        raise InputError(str(index), "already exists and would be overwritten",
+                         "choose another --out folder or pass --overwrite")
+    if not overwrite:
+        for case_id in specs:
+            for suffix in (".wav", ".truth.csv", ".truth.json"):
+                p = out / f"{case_id}{suffix}"
+                if p.exists():
+                    raise InputError(str(p), "already exists and would be overwritten",
+                                     "choose another --out folder or pass --overwrite")
+    rows = []
+    for case_id, spec in specs.items():
+        sim = generate(spec)
+        write(sim, out, case_id, overwrite=overwrite)
+        rows.append(_index_row(case_id, sim, spec))
+    with open(index, "w", newline="") as fh:
+        w = csv.DictWriter(fh, fieldnames=_INDEX_FIELDS, lineterminator="\n")
+        w.writeheader()
+        w.writerows(rows)
+    return index
+
+
+def write_benchmark(out_dir: str | Path, n: int, seed: int = 0, *, overwrite: bool = False
+                    ) -> Path:
+    """Generate ``benchmark_specs(n, seed=seed)`` into ``out_dir`` with ``index.csv``.
+
+    Returns the path of the index file.
+    """
+    specs = {f"bench_{seed:03d}_{i:04d}": s for i, s in
+             enumerate(benchmark_specs(n, seed=seed))}
+    return _write_set(specs, out_dir, overwrite=overwrite)
+
+
+def write_demo(out_dir: str | Path, names: list[str] | None = None, *, seed: int | None = None,
+               overwrite: bool = False) -> Path:
+    """Generate the demo cases (all, or ``names``) into ``out_dir`` with ``index.csv``.
+
+    ``seed`` replaces every case's own seed when given.
+    """
+    from eddyphone.errors import InputError
+
+    all_specs = demo_specs()
+    names = names if names else list(all_specs)
+    unknown = [nm for nm in names if nm not in all_specs]
+    if unknown:
+        raise InputError(None, f"unknown case {unknown[0]!r}",
+                         f"choose from {', '.join(all_specs)}")
+    specs = {nm: (all_specs[nm] if seed is None else all_specs[nm].with_(seed=seed))
+             for nm in names}
+    return _write_set(specs, out_dir, overwrite=overwrite)
