@@ -1,0 +1,301 @@
+"""Scoring of candidate mechanisms: evidence as log-odds increments, scores by softmax.
+
+Public names: :data:`MECHANISMS`, :class:`Evidence`, :func:`murmur_pattern`,
+:func:`score_murmur`, :func:`softmax`.
+
+Each observation (phase, timing, shape, pitch, loudness, sound quality, consistency,
+companion sounds, heart rate) and each fact of the patient context adds a weight from
+:class:`~eddyphone.explain.config.ExplainConfig` to one or more mechanisms. The context
+acts through the three levers of the Reynolds number, Re = 4 rho Q / (pi D mu): the
+flow factor raises ``high_flow``, the viscosity factor ``low_viscosity``, the diameter
+factor ``narrowed_orifice``, each by a weight times the natural log of the factor, so
+every lever acts monotonically.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Iterable
+from dataclasses import dataclass
+
+import numpy as np
+
+from eddyphone.explain.config import ExplainConfig
+from eddyphone.explain.numbers import Basis, flow_noise_ceiling_hz, levers
+
+#: Candidate mechanisms in their fixed order.
+MECHANISMS = ("high_flow", "narrowed_orifice", "low_viscosity", "wall_irregularity",
+              "no_flow_disturbance")
+FLOW = ("high_flow", "low_viscosity")
+FUNCTIONAL = ("high_flow", "low_viscosity", "wall_irregularity")
+
+#: States of high cardiac output (common practice).
+HIGH_OUTPUT_STATES = ("exercise", "pregnancy", "fever", "thyrotoxicosis", "sepsis",
+                      "arteriovenous_fistula")
+
+_GRADES = {"I": 1, "II": 2, "III": 3, "IV": 4, "V": 5, "VI": 6}
+
+
+@dataclass(frozen=True)
+class Evidence:
+    """One observation and the log-odds it adds to each mechanism."""
+
+    text: str
+    weights: tuple[tuple[str, float], ...]
+
+    def for_(self, name: str) -> float:
+        """The weight this observation gives ``name`` (0 when none)."""
+        return sum(w for n, w in self.weights if n == name)
+
+
+def softmax(logits: Iterable[float]) -> np.ndarray:
+    """Normalised exponentials of log-odds (numerically stable)."""
+    z = np.asarray(list(logits), dtype=float)
+    e = np.exp(z - z.max())
+    return e / e.sum()
+
+
+def murmur_pattern(murmur: object) -> str:
+    """The lesion pattern a murmur's phase, timing and shape suggest.
+
+    Returns ``'outflow'`` (systolic ejection), ``'leak'`` (holosystolic or plateau
+    systolic; early decrescendo diastolic), ``'inflow'`` (other diastolic) or ``'shunt'``
+    (continuous).
+    """
+    phase, timing, shape = murmur.phase, murmur.timing, murmur.shape
+    if phase == "continuous":
+        return "shunt"
+    if phase == "systolic":
+        return "leak" if timing == "holo" or shape == "plateau" else "outflow"
+    if shape == "decrescendo" and timing in ("early", "holo"):
+        return "leak"
+    return "inflow"
+
+
+def _grade_high(grade_range: object) -> int | None:
+    if not grade_range:
+        return None
+    hi = grade_range[-1]
+    if isinstance(hi, (int, float)):
+        return int(hi)
+    return _GRADES.get(str(hi).strip().upper())
+
+
+def _ev(text: str, **weights: float) -> Evidence:
+    return Evidence(text, tuple((k, float(v)) for k, v in weights.items() if v))
+
+
+def _spread(names: Iterable[str], w: float) -> dict[str, float]:
+    return {n: w for n in names}
+
+
+def score_murmur(murmur: object, *, extra_kinds: Iterable[str], basis: Basis,
+                 config: ExplainConfig) -> list[Evidence]:
+    """All the evidence one murmur and the context give each mechanism.
+
+    Parameters
+    ----------
+    murmur : eddyphone.findings.Murmur
+        The murmur (phase, timing, shape, pitch, grade, quality words, consistency...).
+    extra_kinds : iterable of str
+        Kinds of the extra sounds found in the same recording.
+    basis : Basis
+        Context, measured heart rate and defaults.
+    config : ExplainConfig
+
+    Returns
+    -------
+    list of Evidence
+        Priors first, then sound, then context. Sum the weights per mechanism for its
+        log-odds.
+    """
+    w = config.w
+    ev: list[Evidence] = [
+        _ev("prior: how common each cause of a murmur is without other information",
+            high_flow=w("prior_high_flow"), low_viscosity=w("prior_low_viscosity"),
+            wall_irregularity=w("prior_wall_irregularity"),
+            narrowed_orifice=w("prior_narrowed_orifice"),
+            no_flow_disturbance=w("prior_no_flow_disturbance")),
+    ]
+    ev += _sound_evidence(murmur, set(extra_kinds), basis, config)
+    ev += _context_evidence(murmur.phase, basis, config)
+    return [e for e in ev if e.weights]
+
+
+def _sound_evidence(m: object, extras: set[str], basis: Basis,
+                    config: ExplainConfig) -> list[Evidence]:
+    w = config.w
+    ev: list[Evidence] = []
+    phase, timing, shape = m.phase, m.timing, m.shape
+    # phase
+    if phase == "diastolic":
+        ev.append(_ev("diastolic murmur: flow is normally slow and quiet in diastole, so "
+                      "noise there usually means a leak or a narrowed inflow valve",
+                      narrowed_orifice=w("diastolic_orifice"),
+                      high_flow=w("diastolic_flow"), low_viscosity=w("diastolic_other"),
+                      wall_irregularity=w("diastolic_other")))
+    elif phase == "continuous":
+        ev.append(_ev("continuous murmur through S2: a pressure difference that persists "
+                      "through the whole cycle, as across a shunt or fistula",
+                      narrowed_orifice=w("continuous_orifice"),
+                      high_flow=w("continuous_flow"), low_viscosity=w("continuous_other"),
+                      wall_irregularity=w("continuous_other")))
+    # timing and shape
+    if phase == "systolic":
+        if timing == "holo":
+            ev.append(_ev("holosystolic: noise from S1 to S2 needs a pressure difference "
+                          "across an orifice for the whole of systole, as in a leak",
+                          narrowed_orifice=w("holo_orifice"),
+                          **_spread(FUNCTIONAL, w("holo_other"))))
+        elif timing == "late":
+            ev.append(_ev("late systolic: noise that starts or peaks late points to an orifice "
+                          "that opens or tightens as systole goes on",
+                          narrowed_orifice=w("late_orifice")))
+        elif timing == "early":
+            ev.append(_ev("early systolic: flow murmurs follow the early peak of ejection",
+                          **_spread(FLOW, w("early_flow"))))
+        elif timing == "mid":
+            ev.append(_ev("mid-systolic: the timing of ejection, shared by flow murmurs, "
+                          "outflow narrowing and valve sclerosis",
+                          **_spread(MECHANISMS[:4], w("mid_ejection"))))
+        if shape == "plateau":
+            ev.append(_ev("plateau shape: a steady pressure difference drives a steady jet",
+                          narrowed_orifice=w("plateau_orifice")))
+        elif shape == "crescendo-decrescendo":
+            pf = getattr(m, "peak_fraction", None)
+            if pf is not None and pf >= 0.55:
+                ev.append(_ev(f"crescendo-decrescendo peaking late (at {pf:.0%} of systole): "
+                              "the later the peak, the tighter an outflow narrowing",
+                              narrowed_orifice=w("late_peak_orifice")))
+            elif pf is not None and pf <= 0.4:
+                ev.append(_ev(f"crescendo-decrescendo peaking early (at {pf:.0%} of systole), "
+                              "as ejection flow does", **_spread(FLOW, w("early_peak_flow"))))
+    elif phase == "diastolic" and shape in ("decrescendo", "crescendo"):
+        what = ("decrescendo from S2: a leak whose driving pressure falls through diastole"
+                if shape == "decrescendo" else
+                "crescendo into S1: inflow through a narrowed valve boosted by atrial "
+                "contraction")
+        ev.append(_ev(what, narrowed_orifice=w("diastolic_shape_orifice")))
+    # pitch against Strouhal scaling of flow through a normal lumen
+    f = getattr(m, "dominant_frequency_hz", None)
+    if f is not None and np.isfinite(f) and f > 0:
+        ceiling = flow_noise_ceiling_hz(basis, phase, config)
+        octaves = float(np.clip(math.log2(f / ceiling), -1.5, 2.5))
+        if octaves > 0:
+            text = (f"dominant frequency {f:.0f} Hz is {octaves:.1f} octaves above the "
+                    f"~{ceiling:.0f} Hz that even raised flow through a normal lumen makes "
+                    "(Strouhal scaling): a smaller, faster jet is implied")
+        else:
+            text = (f"dominant frequency {f:.0f} Hz is within the ~{ceiling:.0f} Hz that "
+                    "raised flow through a normal lumen can make (Strouhal scaling)")
+        ev.append(_ev(text, narrowed_orifice=w("pitch_orifice_per_octave") * octaves,
+                      **_spread(FUNCTIONAL, w("pitch_flow_per_octave") * max(octaves, 0.0))))
+    # loudness
+    hi = _grade_high(getattr(m, "grade_range", None))
+    if hi is not None:
+        if hi >= 3:
+            ev.append(_ev("grade up to III: loud murmurs are more often structural",
+                          narrowed_orifice=w("loud_orifice")))
+        else:
+            ev.append(_ev("soft (grade II or less), as functional murmurs usually are",
+                          **_spread(FUNCTIONAL, w("soft_functional"))))
+    words = set(getattr(m, "quality_words", ()) or ())
+    if "harsh" in words:
+        ev.append(_ev("harsh quality: broadband noise of a fast jet or rough surface",
+                      narrowed_orifice=w("harsh_orifice"),
+                      wall_irregularity=w("harsh_wall")))
+    if "blowing" in words and phase == "systolic" and timing != "holo":
+        ev.append(_ev("blowing quality, as flow murmurs usually are",
+                      **_spread(FLOW, w("blowing_flow"))))
+    if "rumbling" in words:
+        ev.append(_ev("rumbling quality: low-velocity flow through a narrowed inflow valve",
+                      narrowed_orifice=w("rumbling_orifice")))
+    if "musical" in words:
+        ev.append(_ev("musical quality: a regular vibration of a valve or wall structure",
+                      wall_irregularity=w("musical_wall"), high_flow=w("musical_flow")))
+    # certainty of the murmur
+    if getattr(m, "presence", "present") == "present":
+        ev.append(_ev("the murmur is clearly present",
+                      no_flow_disturbance=w("present_no_disturbance")))
+    else:
+        ev.append(_ev("the murmur is uncertain: it may be noise rather than flow",
+                      no_flow_disturbance=w("uncertain_no_disturbance")))
+    cons = getattr(m, "consistency", None)
+    if cons is not None and cons < 0.5:
+        ev.append(_ev(f"heard in only {cons:.0%} of usable beats",
+                      no_flow_disturbance=w("inconsistent_no_disturbance")))
+    # companion sounds
+    if "opening_snap" in extras and phase == "diastolic":
+        ev.append(_ev("opening snap before the murmur: stiff leaflets of a narrowed inflow "
+                      "valve halting as they open", narrowed_orifice=w("snap_orifice")))
+    if "ejection_click" in extras and phase == "systolic":
+        ev.append(_ev("ejection click: a stiff or domed outflow valve opening",
+                      narrowed_orifice=w("click_orifice")))
+    if "S3" in extras:
+        ev.append(_ev("third heart sound: rapid early filling, as with high flow",
+                      high_flow=w("s3_flow")))
+    # measured or supplied heart rate
+    if basis.heart_rate_bpm is not None and basis.heart_rate_bpm > 90:
+        k = float(np.clip(math.log(basis.heart_rate_bpm / 90.0) / math.log(130.0 / 90.0),
+                          0.0, 1.0))
+        src = "measured" if basis.heart_rate_source == "recording" else "supplied"
+        ev.append(_ev(f"heart rate {basis.heart_rate_bpm:.0f}/min ({src}): tachycardia goes "
+                      "with high-output states", high_flow=w("tachycardia_flow") * k))
+    return ev
+
+
+def _context_evidence(phase: str, basis: Basis, config: ExplainConfig) -> list[Evidence]:
+    w = config.w
+    ev: list[Evidence] = []
+    lv = levers(basis, phase, config)
+    known_normal = []
+    if basis.cardiac_output_source != "default":
+        ev.append(_ev(f"cardiac output {basis.cardiac_output_l_min:.3g} L/min raises Re by a "
+                      f"factor {lv.flow_factor:.2f}",
+                      high_flow=w("flow_ratio_flow") * math.log(lv.flow_factor)))
+        if 0.8 <= lv.flow_factor <= 1.3:
+            known_normal.append("cardiac output")
+    if basis.hematocrit_source == "context":
+        ev.append(_ev(f"hematocrit {basis.hematocrit:.2f}: viscosity factor "
+                      f"{lv.viscosity_factor:.2f} on Re",
+                      low_viscosity=w("viscosity_ratio_low_viscosity")
+                      * math.log(lv.viscosity_factor)))
+        if 0.38 <= basis.hematocrit <= 0.52:
+            known_normal.append("hematocrit")
+    if basis.diameter_m is not None:
+        ref = _reference_diameter(basis, phase)
+        ratio = ref / basis.diameter_m
+        ev.append(_ev(f"supplied diameter {basis.diameter_m * 1e3:.3g} mm against a normal "
+                      f"{ref * 1e3:.3g} mm (diameter factor {ratio:.2f})",
+                      narrowed_orifice=w("diameter_ratio_orifice") * math.log(ratio)))
+        if ratio <= 1.15:
+            known_normal.append("diameter")
+    states = set(basis.states)
+    high = sorted(states & set(HIGH_OUTPUT_STATES))
+    if high:
+        ev.append(_ev(f"high-output state ({', '.join(high)})",
+                      high_flow=w("high_output_state_flow")
+                      + w("extra_state_flow") * (len(high) - 1)))
+    if "anemia" in states:
+        ev.append(_ev("known anemia: thinner blood, and often a raised output",
+                      low_viscosity=w("anemia_low_viscosity"), high_flow=w("anemia_flow")))
+    if basis.age_years is not None:
+        if basis.age_years >= 60:
+            k = float(np.clip((basis.age_years - 50.0) / 25.0, 0.0, 1.0))
+            ev.append(_ev(f"age {basis.age_years:.0f}: valve and wall sclerosis are common",
+                          wall_irregularity=w("older_wall") * k))
+        elif basis.age_years < 30:
+            ev.append(_ev(f"age {basis.age_years:.0f}: sclerosis is rare and flow murmurs "
+                          "common", wall_irregularity=w("young_wall"),
+                          high_flow=w("young_flow")))
+    if known_normal:
+        ev.append(_ev(f"{', '.join(known_normal)} known to be normal: disturbed flow without "
+                      "a raised Re points to walls that trip turbulence early",
+                      wall_irregularity=w("normal_lever_wall") * len(known_normal)))
+    return ev
+
+
+def _reference_diameter(basis: Basis, phase: str) -> float:
+    from eddyphone.explain.config import lumen_for
+
+    return lumen_for(basis.site, phase).diameter_m

@@ -1,0 +1,244 @@
+"""Words of the explanation: labels, physics paragraphs, discriminators, text rendering.
+
+Public names: :data:`LABELS`, :func:`label`, :func:`physics_text`,
+:data:`DISCRIMINATORS`, :func:`render_text`.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Mapping
+
+from eddyphone.explain.model import Explanation, Mechanism
+from eddyphone.explain.numbers import fmt
+
+LABELS = {
+    "high_flow": "more flow than usual (high-output state)",
+    "narrowed_orifice": "a fast jet through a narrowed or leaking orifice",
+    "low_viscosity": "thin blood (low viscosity, as in anemia)",
+    "wall_irregularity": "roughened or irregular walls or valve surfaces",
+    "no_flow_disturbance": "no flow disturbance",
+}
+
+_ORIFICE_LABELS = {
+    "outflow": "a fast jet through a narrowed outflow valve or vessel",
+    "leak": "a leak: a fast jet back through an incompetent valve",
+    "inflow": "inflow through a narrowed valve",
+    "shunt": "a shunt: flow through an abnormal channel in both phases",
+}
+
+
+def label(name: str, pattern: str | None = None) -> str:
+    """Plain-words label of a mechanism (the orifice label follows the pattern)."""
+    if name == "narrowed_orifice" and pattern in _ORIFICE_LABELS:
+        return _ORIFICE_LABELS[pattern]
+    return LABELS[name]
+
+
+DISCRIMINATORS = {
+    "high_flow": (
+        "Cardiac output or stroke volume (Doppler echocardiography): raised in a "
+        "high-output state.",
+        "Response to the state: a flow murmur softens as exercise, fever or another "
+        "high-output state settles.",
+        "Doppler peak velocity across the valve: normal or mildly raised (below about "
+        "2 m/s) with high flow, higher across a narrowing.",
+    ),
+    "low_viscosity": (
+        "Hematocrit or hemoglobin from a blood count: low in anemia.",
+        "Cardiac output: anemia usually raises it, so both levers may be acting.",
+        "A flow murmur of anemia fades as the anemia is corrected.",
+    ),
+    "narrowed_orifice": (
+        "Echocardiography with Doppler: peak jet velocity (above about 2.5-3 m/s across "
+        "an outflow valve), valve area, colour flow of any leak.",
+        "Where the murmur is loudest and where it radiates: record at the other sites.",
+        "Supplying the valve or vessel diameter turns the assumed orifice into a measured one.",
+    ),
+    "wall_irregularity": (
+        "Echocardiography: thickened or calcified leaflets with a peak velocity below about "
+        "2.5 m/s point to sclerosis rather than a narrowing.",
+        "Age and vascular risk factors; sclerosis is common from the seventh decade.",
+        "Normal hematocrit and cardiac output leave roughness as the remaining lever.",
+    ),
+    "no_flow_disturbance": (
+        "A repeat recording in a quiet room, with firm contact, at the other sites.",
+        "A murmur heard on the repeat, or by a clinician, rules this candidate out.",
+    ),
+}
+
+
+def _v(numbers: Mapping[str, Mapping], key: str) -> str:
+    return fmt(float(numbers[key]["value"])) if key in numbers else "?"
+
+
+def physics_text(name: str, numbers: Mapping[str, Mapping], *, pattern: str | None,
+                 lumen: str, facts: Mapping[str, object]) -> str:
+    """Two or three sentences of flow physics for one mechanism, with its numbers.
+
+    ``facts`` carries what the sentences need beyond the numbers: ``co_assumed``,
+    ``h_assumed`` (bool), ``present`` (bool, a murmur was heard), ``f_hz``.
+    """
+    n = numbers
+    if name == "high_flow":
+        text = (f"The Reynolds number Re = 4 rho Q / (pi D mu) grows in proportion to flow: "
+                f"at a cardiac output of {_v(n, 'cardiac_output_l_min')} L/min peak Re in the "
+                f"{lumen} is about {_v(n, 'reynolds_number_peak')}, against "
+                f"{_v(n, 'reynolds_number_normal')} at rest with normal blood. More flow "
+                "through a normal valve drives ejection further past the point where "
+                "disturbances die out, so brief turbulence at peak ejection makes a soft, "
+                "early-peaking murmur of low pitch, near the "
+                f"{_v(n, 'flow_noise_frequency_hz')} Hz Strouhal scaling gives for this lumen.")
+        if facts.get("co_assumed"):
+            text += (" No cardiac output was supplied, so the resting value is used: this "
+                     "mechanism fits only if output is in fact raised.")
+        return text
+    if name == "low_viscosity":
+        text = (f"Viscosity damps disturbances: at hematocrit {_v(n, 'hematocrit')} blood "
+                f"viscosity is about {_v(n, 'viscosity_mpa_s')} mPa s against "
+                f"{_v(n, 'normal_viscosity_mpa_s')} at a normal hematocrit, which multiplies "
+                f"the Reynolds number by {_v(n, 'viscosity_factor')} (peak Re about "
+                f"{_v(n, 'reynolds_number_peak')}). Thinner blood lets ordinary ejection flow "
+                "become disturbed, and anemia usually raises cardiac output as well, so the "
+                "two levers add.")
+        if facts.get("h_assumed"):
+            text += (" No hematocrit was supplied, so a normal one is assumed and this "
+                     "candidate rests on the sound alone.")
+        return text
+    if name == "narrowed_orifice":
+        jet = (f"{_v(n, 'dominant_frequency_hz')} Hz through a {_v(n, 'orifice_diameter_mm')} "
+               f"mm orifice implies a jet of about {_v(n, 'jet_velocity_m_s')} m/s (Strouhal "
+               f"scaling), a peak pressure drop of about {_v(n, 'pressure_drop_mmhg')} mmHg "
+               f"(Bernoulli) and a jet Reynolds number near {_v(n, 'jet_reynolds_number')}")
+        if pattern == "leak":
+            return ("A leak through an incompetent valve is driven by the pressure difference "
+                    "between two chambers for as long as that difference lasts, so the "
+                    f"murmur fills its phase: {jet}. A small, fast jet breaks into "
+                    "turbulence where it enters the chamber, which sounds high-pitched and "
+                    "blowing.")
+        if pattern == "inflow":
+            return ("Inflow through a narrowed valve is driven by a small pressure difference, "
+                    f"so the jet is slow and the murmur low-pitched: {jet}. The difference "
+                    "falls as the upstream chamber empties, and atrial contraction can "
+                    "boost it again just before S1.")
+        if pattern == "shunt":
+            return ("A shunt between a high- and a low-pressure vessel carries flow through "
+                    f"systole and diastole, so the murmur runs through S2: {jet}. The noise "
+                    "swells when the pressure difference is greatest, near S2.")
+        return ("A narrowed outflow valve or vessel forces the whole stroke volume through a "
+                f"small orifice, so the jet is fast: {jet}, far above the transition range. "
+                "The jet turns turbulent where it widens beyond the orifice, making a "
+                "crescendo-decrescendo murmur that peaks later the tighter the narrowing.")
+    if name == "wall_irregularity":
+        return ("Roughened or irregular walls and valve surfaces (sclerosis, calcification, "
+                "plaque) trip disturbances at Reynolds numbers at which smooth walls keep "
+                f"flow orderly; here peak Re is about {_v(n, 'reynolds_number_peak')}, "
+                f"{_v(n, 'reynolds_ratio')} times normal, so no extra flow, thin blood or "
+                "narrowing is needed. Without a tight narrowing the velocity stays normal, so "
+                "the murmur stays soft and mid-systolic, as over a sclerotic ageing valve.")
+    # no flow disturbance
+    text = (f"At the flow used here peak Re in the {lumen} is about "
+            f"{_v(n, 'reynolds_number_peak')}; normal pulsatile flow at such Reynolds "
+            "numbers is disturbed only briefly (normal ascending aortas reach about "
+            "5,700-8,900, Stein & Sabbah 1976), so no audible turbulence is expected.")
+    if facts.get("present"):
+        text += (" This candidate holds only if the murmur is an artefact of noise, breath "
+                 "or handling rather than flow.")
+    else:
+        text += " Nothing in the recording needs a flow disturbance to explain it."
+    return text
+
+
+_UNIT_SUFFIXES = ("_l_min", "_m_s", "_mpa_s", "_mmhg", "_mm", "_hz")
+
+
+def _name(key: str) -> str:
+    for suffix in _UNIT_SUFFIXES:
+        if key.endswith(suffix):
+            key = key[: -len(suffix)]
+            break
+    return key.replace("_", " ").replace("reynolds", "Reynolds")
+
+
+def _num_line(numbers: Mapping[str, Mapping], keys: tuple[str, ...]) -> str:
+    parts = []
+    for k in keys:
+        if k in numbers:
+            item = numbers[k]
+            unit = f" {item['unit']}" if item.get("unit") else ""
+            parts.append(f"{_name(k)} {fmt(float(item['value']))}{unit}")
+    return "; ".join(parts)
+
+
+_KEY_NUMBERS = {
+    "high_flow": ("cardiac_output_l_min", "peak_velocity_m_s", "reynolds_number_peak",
+                  "reynolds_number_normal", "womersley_number", "flow_noise_frequency_hz"),
+    "low_viscosity": ("hematocrit", "viscosity_mpa_s", "viscosity_factor",
+                      "reynolds_number_peak"),
+    "narrowed_orifice": ("orifice_diameter_mm", "jet_velocity_m_s", "pressure_drop_mmhg",
+                         "jet_reynolds_number"),
+    "wall_irregularity": ("reynolds_number_peak", "reynolds_ratio"),
+    "no_flow_disturbance": ("reynolds_number_peak",),
+}
+
+
+def _wrap(text: str, indent: str, width: int = 92) -> list[str]:
+    import textwrap
+
+    return textwrap.wrap(text, width=width, initial_indent=indent,
+                         subsequent_indent=indent + "  ") or [indent]
+
+
+def _mechanism_lines(m: Mechanism, *, full: bool) -> list[str]:
+    lines = [f"    {m.rank}. {m.label} [{m.name}]  score {m.score:.2f}"]
+    if not full:
+        return lines
+    strong = [e for e in m.evidence if not e.startswith("prior")][:6]
+    if strong:
+        lines += _wrap("Evidence: " + "; ".join(strong), "       ")
+    lines += _wrap("Physics: " + m.physics, "       ")
+    nums = _num_line(m.numbers, _KEY_NUMBERS.get(m.name, ()))
+    if nums:
+        lines += _wrap("Numbers: " + nums, "       ")
+    if m.discriminators:
+        lines += _wrap("To tell apart: " + " ".join(m.discriminators[:2]), "       ")
+    for c in m.cautions:
+        lines += _wrap("Caution: " + c, "       ")
+    return lines
+
+
+def render_text(explanation: Explanation, *, detail: int = 2) -> str:
+    """A readable block for the terminal: the ranked mechanisms with physics and numbers.
+
+    Parameters
+    ----------
+    explanation : Explanation
+    detail : int
+        How many top candidates per finding get their physics and numbers (the rest
+        are listed with their scores).
+
+    Returns
+    -------
+    str
+        Lines of at most about 95 characters, no trailing newline.
+    """
+    out = ["Likely physical mechanisms (decision support, not a diagnosis)"]
+    top = explanation.top()
+    if top is not None:
+        out.append(f"  Overall: {top.label} [{top.name}], score {top.score:.2f}")
+    if not explanation.per_finding:
+        for m in explanation.overall:
+            out += _mechanism_lines(m, full=True)
+    for fid, mechs in explanation.per_finding.items():
+        subject = explanation.subjects.get(fid, "")
+        out += _wrap(f"Finding {fid}: {subject}".rstrip(": "), "  ")
+        for i, m in enumerate(mechs):
+            out += _mechanism_lines(m, full=i < detail)
+    if explanation.assumptions:
+        out.append("  Assumed:")
+        for a in explanation.assumptions:
+            out += _wrap("- " + a, "    ")
+    if explanation.cautions:
+        out.append("  Cautions:")
+        for c in explanation.cautions:
+            out += _wrap("- " + c, "    ")
+    return "\n".join(out)
