@@ -1,0 +1,116 @@
+"""Findings settings and the documented constants behind the trade's words.
+
+Every threshold is relative: to the quiet parts of the same beat, to the noise
+floor of the same recording, or to the same beat's S1 and S2. Nothing depends on
+the absolute level, which peak normalisation and the device response change.
+
+Public names
+------------
+FindingsConfig
+PITCH_BOUNDARIES_HZ, ANALYSIS_BANDS_HZ, TIMING_THIRDS, GRADE_ANCHORS_DB
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+from eddyphone.errors import ParameterError
+
+#: Pitch classes from the murmur's dominant frequency, in Hz: low below 150 Hz
+#: (rumbles, best heard with the bell), high from 300 Hz (blowing regurgitant and
+#: harsh high-velocity murmurs, best heard with the diaphragm), medium between.
+#: Common practice, from memory (clinical auscultation texts place the bell's range
+#: below about 150 Hz and high-pitched murmurs above about 300 Hz).
+PITCH_BOUNDARIES_HZ = (150.0, 300.0)
+
+#: Analysis bands (Hz) for per-beat band energies; the edges include the pitch
+#: boundaries so band energies and the pitch class agree. Octave-wide above 75 Hz
+#: (our own choice); the top band ends below the 900 Hz conditioning corner.
+ANALYSIS_BANDS_HZ = ((25.0, 75.0), (75.0, 150.0), (150.0, 300.0), (300.0, 600.0),
+                     (600.0, 900.0))
+
+#: Timing words split a systolic or diastolic window into thirds (early, mid, late);
+#: a murmur that fills the whole window (S1 to S2 for systole) is "holo". Common
+#: practice (the usual division of systole and diastole into thirds).
+TIMING_THIRDS = (1.0 / 3.0, 2.0 / 3.0)
+
+#: Grade anchoring to the loudness of the heart sounds, after the three-step
+#: anchoring "softer than S1/S2 / about as loud / louder than S1/S2" with grades
+#: IV-VI reserved for a palpable thrill (Keren R et al., "Evaluation of a novel
+#: method for grading heart murmur intensity", Arch Pediatr Adolesc Med 2005;
+#: from memory). Level of the murmur re the mean S1/S2 level in dB: below
+#: ``faint`` -> I; faint..softer -> I-II; softer..louder -> II-III (about equal);
+#: above ``louder`` -> III. The dB edges are our own reading of "about equal"
+#: (+/- 4 dB, about the just-noticeable loudness step for a trained listener is
+#: 1-2 dB; we allow for beat-to-beat spread).
+GRADE_ANCHORS_DB = {"faint": -20.0, "softer": -6.0, "louder": 4.0}
+
+
+@dataclass(frozen=True)
+class FindingsConfig:
+    """Findings settings.
+
+    Attributes
+    ----------
+    bins_per_window : int
+        Each systolic and diastolic window is cut into this many equal bins for
+        the time profile (time-normalised, so beats of different length average).
+    guard_s : float
+        Trimmed from each end of a window so S1/S2 tails (and segmentation
+        boundary error) do not leak in.
+    frame_s, hop_s : float
+        Short-time spectrum frame and hop.
+    reference_percentile : float
+        Per-beat, per-band reference: this percentile of the beat's bin powers
+        (its quiet parts). Breathing and room noise raise the whole beat and cancel.
+    excess_db : float
+        A bin is active when its median excess over the reference (across beats)
+        reaches this many dB.
+    beat_excess_db : float
+        A beat shows the murmur when its mean excess over the murmur's active bins
+        reaches this many dB.
+    min_active_fraction : float
+        A murmur must fill at least this fraction of its window (transients such
+        as S3, clicks or S1/S2 tails are shorter).
+    present_consistency, uncertain_consistency : float
+        Fraction of usable beats that must show it for 'present' / 'uncertain'.
+    min_beats : int
+        Fewer usable beats than this: presence is 'uncertain'.
+    min_beat_confidence : float
+        Beats with a lower segmentation confidence are not used.
+    tonal_threshold : float
+        Spectral peakedness (0-1) above which a murmur is called musical.
+    min_level_db_re_heart_sounds : float
+        Excess softer than this relative to S1/S2 is not called a murmur (about
+        the softest sound a listener picks out beside the heart sounds; our own
+        setting, 10 dB under the grade I edge).
+    """
+
+    bins_per_window: int = 12
+    guard_s: float = 0.02
+    frame_s: float = 0.032
+    hop_s: float = 0.004
+    reference_percentile: float = 20.0
+    excess_db: float = 4.0
+    beat_excess_db: float = 3.0
+    min_active_fraction: float = 0.25
+    present_consistency: float = 0.6
+    uncertain_consistency: float = 0.35
+    min_beats: int = 3
+    min_beat_confidence: float = 0.0
+    tonal_threshold: float = 0.5
+    min_level_db_re_heart_sounds: float = -30.0
+
+    def __post_init__(self) -> None:
+        if not 4 <= self.bins_per_window <= 64:
+            raise ParameterError(
+                f"bins_per_window={self.bins_per_window} must lie in 4-64")
+        if not 0.0 <= self.guard_s <= 0.1:
+            raise ParameterError(f"guard_s={self.guard_s} must lie in 0-0.1 s")
+        if not 0.0 < self.uncertain_consistency <= self.present_consistency <= 1.0:
+            raise ParameterError(
+                f"need 0 < uncertain_consistency={self.uncertain_consistency} <= "
+                f"present_consistency={self.present_consistency} <= 1")
+        if not 0.0 < self.reference_percentile < 50.0:
+            raise ParameterError(
+                f"reference_percentile={self.reference_percentile} must lie in (0, 50)")

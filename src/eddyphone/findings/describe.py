@@ -1,0 +1,128 @@
+"""``describe``: the findings of one recording from its segmentation."""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+
+import numpy as np
+
+from eddyphone.errors import InputError
+from eddyphone.findings.config import FindingsConfig
+from eddyphone.findings.measures import beat_profiles, spectrogram
+from eddyphone.findings.murmur import find_murmurs
+from eddyphone.findings.records import BeatMeasures, Findings
+
+
+def _usable_beats(beats: Sequence, quality) -> list:
+    """Beats whose whole cycle lies in windows quality marked usable."""
+    bad = []
+    if quality is not None:
+        bad = [(w.start_s, w.end_s) for w in getattr(quality, "windows", ())
+               if not getattr(w, "usable", True)]
+    out = []
+    for bt in beats:
+        end = bt.next_s1_onset_s if bt.next_s1_onset_s is not None else bt.s2_offset_s
+        if any(a < end and bt.s1_onset_s < b for a, b in bad):
+            continue
+        out.append(bt)
+    return out
+
+
+def describe(x: np.ndarray, fs: float, segmentation, *, quality=None,
+             config: FindingsConfig | None = None) -> Findings:
+    """Describe murmurs and extra sounds of a conditioned, segmented recording.
+
+    Parameters
+    ----------
+    x : ndarray
+        Conditioned samples (:func:`eddyphone.condition.condition`).
+    fs : float
+        Sample rate in Hz.
+    segmentation : Segmentation
+        From :func:`eddyphone.segment.segment` (only ``.beats`` is used; any object
+        with a ``beats`` sequence of :class:`eddyphone.segment.Beat`-like items works).
+    quality : Quality, optional
+        Beats touching unusable windows are left out.
+    config : FindingsConfig, optional
+
+    Returns
+    -------
+    Findings
+
+    Examples
+    --------
+    >>> from eddyphone.findings import describe
+    >>> f = describe(cond.x, cond.fs, seg)  # doctest: +SKIP
+    >>> f.summary_dict()["murmur"]  # doctest: +SKIP
+    'absent'
+    """
+    from eddyphone.findings.extra import find_extra_sounds
+
+    cfg = config or FindingsConfig()
+    x = np.asarray(x, dtype=float)
+    if x.ndim != 1:
+        raise InputError(None, f"x has shape {x.shape}, expected one channel",
+                         "pass the 1-D conditioned samples")
+    beats_all = list(getattr(segmentation, "beats", segmentation) or ())
+    beats = _usable_beats(beats_all, quality)
+    spec = spectrogram(x, fs, frame_s=cfg.frame_s, hop_s=cfg.hop_s)
+    prof = beat_profiles(spec, beats, cfg)
+    search = find_murmurs(spec, prof, cfg)
+    extras = find_extra_sounds(x, fs, beats, cfg)
+
+    measures = _beat_measures(prof, search, len(beats_all))
+    n = prof.n_beats
+    present = [m for m in search.murmurs if m.presence == "present"]
+    uncertain = [m for m in search.murmurs if m.presence == "uncertain"]
+    if n < cfg.min_beats:
+        presence = "uncertain"
+        reason = (f"only {n} usable beat(s) with both windows (need {cfg.min_beats}); "
+                  "record longer or with less noise")
+    elif present:
+        m = present[0]
+        presence = "present"
+        reason = (f"{m.phase} excess up to {m.snr_db:.0f} dB over the quiet parts of the "
+                  f"cycle in {m.beats_with_murmur}/{m.beats_used} beats, "
+                  f"{m.level_db_re_heart_sounds:.0f} dB re S1/S2")
+    elif uncertain:
+        m = uncertain[0]
+        presence = "uncertain"
+        reason = (f"a {m.phase} excess seen in {m.beats_with_murmur}/{m.beats_used} beats "
+                  f"only (consistency {m.consistency:.0%})")
+    else:
+        presence = "absent"
+        reason = (f"systolic and diastolic windows stay within {cfg.excess_db:g} dB of the "
+                  f"quiet level in {n} usable beats")
+        if search.rejected:
+            reason += "; " + "; ".join(search.rejected[:2])
+    return Findings(murmurs=search.murmurs, extra_sounds=extras, beat_measures=measures,
+                    presence=presence, presence_reason=reason)
+
+
+def _beat_measures(prof, search, n_all: int) -> tuple[BeatMeasures, ...]:
+    out = []
+    R = prof.ratio
+    hs = 0.5 * (prof.s1_power.sum(axis=1) + prof.s2_power.sum(axis=1))
+    for i in range(prof.n_beats):
+        s1 = 10 * np.log10(max(prof.s1_power[i].sum(), 1e-30))
+        s2 = 10 * np.log10(max(prof.s2_power[i].sum(), 1e-30))
+        sys_p = prof.power[i, 0].sum(axis=0).mean()
+        dia_p = prof.power[i, 1].sum(axis=0).mean()
+        ref = prof.reference[i].sum()
+        sys_flag = search.beat_flags.get("systolic")
+        dia_flag = search.beat_flags.get("diastolic")
+        out.append(BeatMeasures(
+            beat=int(prof.beat_index[i]), usable=True,
+            s1_db=float(s1), s2_db=float(s2),
+            sys_db_re_hs=float(10 * np.log10(max(sys_p, 1e-30) / max(hs[i], 1e-30))),
+            dia_db_re_hs=float(10 * np.log10(max(dia_p, 1e-30) / max(hs[i], 1e-30))),
+            sys_snr_db=float(10 * np.log10(max(R[i, 0].sum(axis=0).max(), 1e-30)
+                                           / R.shape[2])),
+            dia_snr_db=float(10 * np.log10(max(R[i, 1].sum(axis=0).max(), 1e-30)
+                                           / R.shape[2])),
+            sys_centroid_hz=float("nan"), dia_centroid_hz=float("nan"),
+            sys_tonality=float("nan"), dia_tonality=float("nan"),
+            sys_murmur=bool(sys_flag[i]) if sys_flag is not None else False,
+            dia_murmur=bool(dia_flag[i]) if dia_flag is not None else False))
+        del ref
+    return tuple(out)

@@ -1,0 +1,254 @@
+"""Extra heart sounds: S3, S4, split S2, early-systolic ejection click, opening snap.
+
+Each is searched for in a window fixed relative to S1 or S2 onset, taken from the
+published timing windows in :mod:`eddyphone.physiology` (sources named there),
+widened by a tolerance for segmentation error. In each beat the sound must stand
+out from the quiet level of the same beat in its band and be separated from the
+neighbouring heart sound by a dip (a distinct event, not a tail). A sound is
+reported when enough usable beats show it.
+
+Public functions
+----------------
+find_extra_sounds(x, fs, beats, config) -> tuple of ExtraSound
+band_envelope(x, fs, band_hz, smooth_s) -> (envelope, envelope rate)
+"""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+
+import numpy as np
+from scipy import signal
+
+from eddyphone import physiology as phy
+from eddyphone.findings.config import FindingsConfig
+from eddyphone.findings.records import ExtraSound
+
+#: Bands (Hz): S3/S4 are low-pitched (20-60 Hz per ``physiology.S3_BAND_HZ``; the
+#: conditioned signal starts at 25 Hz, so 25-70 Hz); clicks and snaps high-pitched
+#: (100-300 Hz per ``physiology.CLICK_BAND_HZ``, taken as 120-400 Hz to keep clear of
+#: S1/S2 energy); S2 components in 40-250 Hz (``physiology.S2_BAND_HZ``).
+LOW_BAND_HZ = (25.0, 70.0)
+HIGH_BAND_HZ = (120.0, 400.0)
+S2_BAND_HZ = (40.0, 250.0)
+
+#: Tolerance (s) added to each published window for segmentation boundary error.
+WINDOW_TOLERANCE_S = 0.02
+
+#: An event must rise this far (dB) above the beat's quiet level in its band ...
+EVENT_DB = 6.0
+#: ... and be separated from the neighbouring sound by a dip this deep (dB).
+DIP_DB = 3.0
+#: Fraction of usable beats that must show an extra sound for it to be reported.
+MIN_FRACTION = 0.5
+#: Minimum resolvable A2-P2 interval (s): closer components fuse (common practice,
+#: from memory: splits under about 20-30 ms are heard as single).
+MIN_SPLIT_S = 0.02
+#: A2-P2 spread (10th-90th percentile, s) at or above which the split "varies".
+SPLIT_VARIES_S = 0.015
+
+
+def band_envelope(x: np.ndarray, fs: float, band_hz: tuple[float, float],
+                  smooth_s: float = 0.008) -> tuple[np.ndarray, float]:
+    """Power envelope of one band at 1 kHz (or ``fs`` if lower).
+
+    Zero-phase 4th-order Butterworth band-pass, squared, moving-average smoothed.
+    """
+    hi = min(band_hz[1], 0.45 * fs)
+    sos = signal.butter(4, [band_hz[0], hi], btype="bandpass", fs=fs, output="sos")
+    y = signal.sosfiltfilt(sos, np.asarray(x, dtype=float)) ** 2
+    k = max(1, int(round(smooth_s * fs)))
+    y = np.convolve(y, np.ones(k) / k, mode="same")
+    step = max(1, int(fs // 1000))
+    return y[::step], fs / step
+
+
+def _seg(env: np.ndarray, rate: float, a: float, b: float) -> tuple[np.ndarray, int]:
+    i0 = max(int(round(a * rate)), 0)
+    i1 = min(int(round(b * rate)), len(env))
+    return env[i0:i1] if i1 > i0 else env[0:0], i0
+
+
+def _db(a: float, b: float) -> float:
+    return 10.0 * np.log10(max(a, 1e-30) / max(b, 1e-30))
+
+
+def _event(env: np.ndarray, rate: float, win: tuple[float, float], ref: float,
+           anchor: tuple[float, float]) -> tuple[float, float] | None:
+    """Largest peak in ``win`` that stands EVENT_DB over ``ref`` and is separated by a
+    DIP_DB dip from the anchor sound (searched in ``anchor``). Returns (peak time s,
+    onset time s) or None."""
+    seg, i0 = _seg(env, rate, *win)
+    if len(seg) < 3:
+        return None
+    k = int(np.argmax(seg))
+    if k == 0 or k == len(seg) - 1:
+        return None  # a rising or falling edge, not a peak inside the window
+    peak = float(seg[k])
+    if _db(peak, ref) < EVENT_DB:
+        return None
+    tp = (i0 + k) / rate
+    anc, j0 = _seg(env, rate, *anchor)
+    if len(anc) == 0:
+        return None
+    ja = j0 + int(np.argmax(anc))
+    lo, hi = sorted((ja, i0 + k))
+    between = env[lo:hi + 1]
+    if len(between) < 3 or _db(peak, float(between.min())) < DIP_DB:
+        return None
+    # fall after the peak too (a distinct event, not a rising murmur)
+    after, _ = _seg(env, rate, tp, tp + 0.04)
+    if len(after) > 2 and _db(peak, float(after.min())) < DIP_DB:
+        return None
+    before = env[max(i0 + k - int(0.06 * rate), 0): i0 + k + 1]
+    half = np.flatnonzero(before < 0.5 * peak)
+    onset = (max(i0 + k - int(0.06 * rate), 0) + (half[-1] + 1 if len(half) else 0)) / rate
+    return tp, onset
+
+
+def _quiet_level(env: np.ndarray, rate: float, bt) -> float:
+    """Quiet level of a beat in one band: 20th percentile over its two windows."""
+    parts = [_seg(env, rate, bt.s1_offset_s, bt.s2_onset_s)[0]]
+    if bt.next_s1_onset_s is not None:
+        parts.append(_seg(env, rate, bt.s2_offset_s, bt.next_s1_onset_s)[0])
+    allv = np.concatenate(parts) if parts else np.zeros(0)
+    return float(np.percentile(allv, 20)) if len(allv) else float(np.median(env))
+
+
+def _conf(fraction: float, n: int) -> float:
+    return float(np.clip((fraction - 0.3) / 0.6, 0.0, 1.0) * min(1.0, n / 8.0))
+
+
+def _split_s2(env: np.ndarray, rate: float, bt) -> float | None:
+    """A2-P2 interval (s) from two peaks within the S2 segment, or None if single."""
+    seg, i0 = _seg(env, rate, bt.s2_onset_s - 0.01, bt.s2_offset_s + 0.02)
+    if len(seg) < 10:
+        return None
+    peaks, props = signal.find_peaks(seg, distance=max(1, int(MIN_SPLIT_S * rate)))
+    if len(peaks) < 2:
+        return None
+    top = peaks[np.argsort(seg[peaks])[::-1][:2]]
+    a, b = sorted(int(v) for v in top)
+    if _db(min(seg[a], seg[b]), float(seg[a:b + 1].min())) < 2.0:
+        return None
+    if _db(float(seg[a]), float(seg[b])) > 15.0:
+        return None  # second peak too small to be P2
+    dt = (b - a) / rate
+    return dt if MIN_SPLIT_S <= dt <= 0.1 else None
+
+
+def find_extra_sounds(x: np.ndarray, fs: float, beats: Sequence,
+                      config: FindingsConfig) -> tuple[ExtraSound, ...]:
+    """Search every beat with a following S1 for extra sounds and aggregate.
+
+    Parameters
+    ----------
+    x : ndarray
+        Conditioned samples.
+    fs : float
+        Sample rate in Hz.
+    beats : sequence of Beat
+    config : FindingsConfig
+
+    Returns
+    -------
+    tuple of ExtraSound
+        Those seen in at least :data:`MIN_FRACTION` of the beats, ids ``x1``, ``x2``...
+    """
+    full = [b for b in beats if b.next_s1_onset_s is not None]
+    if len(full) < config.min_beats:
+        return ()
+    low, rate = band_envelope(x, fs, LOW_BAND_HZ)
+    high, _ = band_envelope(x, fs, HIGH_BAND_HZ)
+    mid, _ = band_envelope(x, fs, S2_BAND_HZ, smooth_s=0.005)
+    tol = WINDOW_TOLERANCE_S
+    hits: dict[str, list[float]] = {k: [] for k in ("S3", "S4", "ejection_click",
+                                                   "opening_snap")}
+    splits: list[float] = []
+    for bt in full:
+        q_low = _quiet_level(low, rate, bt)
+        q_high = _quiet_level(high, rate, bt)
+        s2, s1n = bt.s2_onset_s, bt.next_s1_onset_s
+        # S3: 120-180 ms after A2 (S2 onset), physiology.S3_AFTER_A2_S
+        lo, hi = phy.S3_AFTER_A2_S
+        win = (max(s2 + lo - tol, bt.s2_offset_s), min(s2 + hi + 0.04 + tol, s1n - 0.1))
+        if win[1] - win[0] > 0.02:
+            ev = _event(low, rate, win, q_low, (s2, bt.s2_offset_s))
+            if ev is not None:
+                hits["S3"].append(1000.0 * (ev[1] - s2))
+        # S4: onset 60-120 ms before S1 onset, physiology.S4_BEFORE_S1_S
+        lo, hi = phy.S4_BEFORE_S1_S
+        win = (max(s1n - hi - tol, bt.s2_offset_s + 0.1), s1n - 0.01)
+        if win[1] - win[0] > 0.02:
+            ev = _event(low, rate, win, q_low, (s1n, s1n + 0.06))
+            if ev is not None:
+                hits["S4"].append(1000.0 * (s1n - ev[1]))
+        # ejection click: 60-100 ms after S1 onset, physiology.EJECTION_CLICK_AFTER_S1_S
+        lo, hi = phy.EJECTION_CLICK_AFTER_S1_S
+        win = (bt.s1_onset_s + lo - tol, min(bt.s1_onset_s + hi + 0.02 + tol, s2 - 0.03))
+        if win[1] - win[0] > 0.02:
+            ev = _event(high, rate, win, q_high, (bt.s1_onset_s, bt.s1_onset_s + lo - tol))
+            if ev is not None:
+                hits["ejection_click"].append(1000.0 * (ev[1] - bt.s1_onset_s))
+        # opening snap: 40-120 ms after A2, physiology.OPENING_SNAP_AFTER_A2_S; high
+        # pitched, so it must stand out in the high band more than A2 itself does
+        lo, hi = phy.OPENING_SNAP_AFTER_A2_S
+        win = (s2 + lo + 0.01, min(s2 + hi + tol, s1n - 0.08))
+        if win[1] - win[0] > 0.02:
+            ev = _event(high, rate, win, q_high, (s2 - 0.005, s2 + 0.03))
+            if ev is not None:
+                a2_high = float(_seg(high, rate, s2 - 0.005, s2 + 0.03)[0].max(initial=0.0))
+                a2_mid = float(_seg(mid, rate, s2 - 0.005, s2 + 0.03)[0].max(initial=0.0))
+                ev_high = float(high[min(int(round(ev[0] * rate)), len(high) - 1)])
+                ev_mid = float(mid[min(int(round(ev[0] * rate)), len(mid) - 1)])
+                # higher-pitched than A2: its high/mid ratio exceeds A2's
+                if _db(ev_high / max(ev_mid, 1e-30), a2_high / max(a2_mid, 1e-30)) > 0.0:
+                    hits["opening_snap"].append(1000.0 * (ev[1] - s2))
+        sp = _split_s2(mid, rate, bt)
+        if sp is not None:
+            splits.append(sp)
+
+    n = len(full)
+    out: list[ExtraSound] = []
+    windows = {
+        "S3": (phy.S3_AFTER_A2_S, "after S2 onset",
+               "physiology.S3_AFTER_A2_S (common practice, from memory)"),
+        "S4": (phy.S4_BEFORE_S1_S, "before S1 onset",
+               "physiology.S4_BEFORE_S1_S (common practice, from memory)"),
+        "ejection_click": (phy.EJECTION_CLICK_AFTER_S1_S, "after S1 onset",
+                           "physiology.EJECTION_CLICK_AFTER_S1_S (common practice, "
+                           "from memory)"),
+        "opening_snap": (phy.OPENING_SNAP_AFTER_A2_S, "after S2 onset",
+                         "physiology.OPENING_SNAP_AFTER_A2_S (common practice, from memory)"),
+    }
+    for kind, times in hits.items():
+        frac = len(times) / n
+        if frac < MIN_FRACTION:
+            continue
+        (lo, hi), ref, src = windows[kind]
+        out.append(ExtraSound(
+            id="", kind=kind, confidence=_conf(frac, n), timing_ms=float(np.median(times)),
+            reference=ref,
+            details={"window_ms": [round(1000 * lo), round(1000 * hi)],
+                     "window_source": src, "tolerance_ms": round(1000 * tol),
+                     "beats_with_sound": len(times), "beats_used": n,
+                     "timing_sd_ms": float(np.std(times))}))
+    if len(splits) / n >= MIN_FRACTION:
+        sp = np.array(splits)
+        spread = float(np.percentile(sp, 90) - np.percentile(sp, 10))
+        varies = spread >= SPLIT_VARIES_S
+        out.append(ExtraSound(
+            id="", kind="split_S2", confidence=_conf(len(sp) / n, n),
+            timing_ms=float(1000 * np.median(sp)), reference="A2 to P2",
+            details={"a2_p2_min_ms": float(1000 * sp.min()),
+                     "a2_p2_max_ms": float(1000 * sp.max()),
+                     "a2_p2_spread_ms": 1000 * spread,
+                     "variation": ("varies across the recording (as with breathing)"
+                                   if varies else "fixed across the recording"),
+                     "varies": bool(varies),
+                     "window_source": "physiology.S2_SPLIT_EXPIRATION_S / "
+                                      "S2_SPLIT_INSPIRATION_S (common practice, from memory)",
+                     "beats_with_split": len(sp), "beats_used": n}))
+    from dataclasses import replace
+
+    return tuple(replace(e, id=f"x{i + 1}") for i, e in enumerate(out))

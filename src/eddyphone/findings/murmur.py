@@ -1,0 +1,429 @@
+"""Murmur description aggregated over usable beats: presence, phase, timing, shape,
+pitch, quality words, consistency and grade.
+
+Method (our own arrangement of standard measures):
+
+1. Per beat, band powers across the time-normalised systolic and diastolic windows
+   are divided by the beat's own quiet level (:mod:`eddyphone.findings.measures`).
+2. These ratios are averaged over beats with a trimmed mean (friction bursts and
+   single noisy beats drop out) and re-referenced to the quiet parts of the average,
+   giving an excess in dB per window, band and bin.
+3. A murmur is a run of bins, in one window, whose excess reaches
+   ``FindingsConfig.excess_db`` in at least one band and that is sustained (at least
+   ``min_active_fraction`` of the window and at least 50 ms within 6 dB of its
+   peak), which tells it from transients such as S3, S4, clicks and sound tails.
+4. Each beat is then checked for the murmur (its own excess over the same bins):
+   the fraction that show it is the consistency; presence follows from it.
+5. Timing and shape come from the excess profile, pitch and quality words from the
+   excess spectrum (murmur frames minus quiet frames), the grade from the peak
+   excess power relative to the S1/S2 power of the same beats.
+
+Public functions
+----------------
+find_murmurs(spec, profiles, config) -> MurmurSearch
+timing_word(onset_fraction, end_fraction) -> str
+shape_word(profile_db) -> str
+pitch_word(centroid_hz) -> str
+quality_words(...) -> tuple of str
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from eddyphone.findings.config import PITCH_BOUNDARIES_HZ, FindingsConfig
+from eddyphone.findings.grade import grade_range
+from eddyphone.findings.measures import DIA, SYS, Profiles, Spectrogram
+from eddyphone.findings.records import GRADE_NOTE, Murmur
+
+PHASES = ("systolic", "diastolic")
+
+
+def timing_word(onset_fraction: float, end_fraction: float) -> str:
+    """Timing word from where the murmur starts and ends in its window (0-1).
+
+    Common practice, on the thirds of the window: ``holo`` from its start to its end
+    (here: starts in the first 15 % and ends in the last 15 %, the window being
+    trimmed at both sounds); ``late`` when it starts after the first half and runs
+    on; ``early`` when it starts with the window and is over by two thirds;
+    ``mid`` otherwise.
+
+    Examples
+    --------
+    >>> timing_word(0.0, 1.0), timing_word(0.0, 0.5), timing_word(0.6, 1.0)
+    ('holo', 'early', 'late')
+    """
+    if onset_fraction <= 0.15 and end_fraction >= 0.85:
+        return "holo"
+    if onset_fraction >= 0.5:
+        return "late"
+    if onset_fraction <= 0.25 and end_fraction <= 2.0 / 3.0 + 1e-9:
+        return "early"
+    return "mid"
+
+
+def shape_word(profile_db: np.ndarray) -> tuple[str, float]:
+    """Shape word and a 0-1 confidence from a profile in dB re its peak.
+
+    ``plateau`` when the middle 60 % of the murmur stays within 4 dB of its peak;
+    otherwise by where the peak lies: first fifth ``decrescendo``, last fifth
+    ``crescendo``, between ``crescendo-decrescendo`` (common practice: the shape is
+    the loudness course of the murmur itself, from its start to its end).
+    """
+    p = np.asarray(profile_db, dtype=float)
+    n = len(p)
+    if n == 0:
+        return "plateau", 0.0
+    lo, hi = int(np.floor(0.2 * n)), int(np.ceil(0.8 * n))
+    mid = p[lo:hi] if hi > lo else p
+    k = int(np.argmax(p))
+    pos = (k + 0.5) / n
+    if mid.min() >= -4.0:
+        return "plateau", float(np.clip((mid.min() + 6.0) / 6.0, 0.3, 1.0))
+    drop = float(-mid.min())
+    conf = float(np.clip((drop - 2.0) / 6.0, 0.3, 1.0))
+    if pos <= 0.2:
+        return "decrescendo", conf
+    if pos >= 0.8:
+        return "crescendo", conf
+    edge = min(pos - 0.2, 0.8 - pos) / 0.3
+    return "crescendo-decrescendo", float(np.clip(conf * (0.5 + edge), 0.3, 1.0))
+
+
+def pitch_word(centroid_hz: float, boundaries_hz: tuple[float, float] = PITCH_BOUNDARIES_HZ
+               ) -> str:
+    """'low', 'medium' or 'high' from the murmur's spectral centroid (see
+    :data:`~eddyphone.findings.config.PITCH_BOUNDARIES_HZ`).
+
+    Examples
+    --------
+    >>> pitch_word(90.0), pitch_word(200.0), pitch_word(450.0)
+    ('low', 'medium', 'high')
+    """
+    lo, hi = boundaries_hz
+    if centroid_hz < lo:
+        return "low"
+    return "medium" if centroid_hz < hi else "high"
+
+
+def quality_words(*, pitch: str, tonality: float, relative_spread: float, roughness: float,
+                  tonal_threshold: float) -> tuple[str, ...]:
+    """Descriptive words from spectral and envelope measures.
+
+    ``musical`` when most excess energy sits in one narrow peak (tonality at or above
+    ``tonal_threshold``); otherwise ``rumbling`` when low-pitched; ``harsh`` when the
+    spectrum is broad (spread at least 0.45 of the centroid) with a rough envelope
+    (roughness at least 0.3), ``blowing`` when smoother. Our own rules on the usual
+    meanings: musical = tonal, rumbling = low and noisy, harsh = broad and rough,
+    blowing = smooth and higher-pitched.
+    """
+    if tonality >= tonal_threshold:
+        return ("musical",)
+    if pitch == "low":
+        return ("rumbling",)
+    if relative_spread >= 0.45 and roughness >= 0.3:
+        return ("harsh",)
+    return ("blowing",)
+
+
+@dataclass(frozen=True, eq=False)
+class MurmurSearch:
+    """Result of :func:`find_murmurs`.
+
+    Attributes
+    ----------
+    murmurs : tuple of Murmur
+        Present and uncertain murmurs, strongest first.
+    excess_db : ndarray, shape (2, bands, bins)
+        Average excess per window, band and bin (dB).
+    rejected : tuple of str
+        Candidates set aside and why (for the reason text).
+    beat_flags : dict
+        ``{'systolic': bool array, 'diastolic': bool array}`` per measured beat.
+    beat_excess_db : dict
+        Per-beat excess (dB) over the murmur's bins, by phase.
+    """
+
+    murmurs: tuple[Murmur, ...]
+    excess_db: np.ndarray
+    rejected: tuple[str, ...]
+    beat_flags: dict
+    beat_excess_db: dict
+
+
+def _trimmed_mean(values: np.ndarray, cut: float) -> np.ndarray:
+    n = values.shape[0]
+    k = int(np.floor(cut * n))
+    s = np.sort(values, axis=0)
+    return s[k: n - k].mean(axis=0) if n - 2 * k > 0 else s.mean(axis=0)
+
+
+def _fill_gaps(mask: np.ndarray, gap: int = 1) -> np.ndarray:
+    m = mask.copy()
+    idx = np.flatnonzero(m)
+    for a, b in zip(idx[:-1], idx[1:]):
+        if 1 < b - a <= gap + 1:
+            m[a:b] = True
+    return m
+
+
+def _runs(mask: np.ndarray) -> list[tuple[int, int]]:
+    edges = np.flatnonzero(np.diff(np.concatenate([[0], mask.astype(int), [0]])))
+    return [(int(a), int(b)) for a, b in zip(edges[::2], edges[1::2])]
+
+
+@dataclass(frozen=True)
+class _Candidate:
+    window: int
+    bands: tuple[int, ...]
+    k0: int
+    k1: int  # exclusive
+    peak_db: float
+
+
+def _candidates(M: np.ndarray, X: np.ndarray, dur_s: np.ndarray, cfg: FindingsConfig,
+                rejected: list[str]) -> list[_Candidate]:
+    n_bins = M.shape[2]
+    n_min = max(2, int(np.ceil(cfg.min_active_fraction * n_bins)))
+    out = []
+    for w in (SYS, DIA):
+        act = M[w] >= cfg.excess_db
+        bands = []
+        for b in range(M.shape[1]):
+            runs = _runs(_fill_gaps(act[b]))
+            if runs and max(e - s for s, e in runs) >= n_min:
+                bands.append(b)
+        if not bands:
+            continue
+        union = _fill_gaps(act[bands].any(axis=0))
+        runs = _runs(union)
+        s, e = max(runs, key=lambda r: (X[w, r[0]:r[1]].sum(), r[1] - r[0]))
+        if e - s < n_min:
+            continue
+        prof = X[w, s:e]
+        sustained = int(np.sum(prof >= 0.25 * prof.max()))
+        bin_s = dur_s[w] / n_bins
+        if sustained < max(2, n_min - 1) or sustained * bin_s < 0.05:
+            rejected.append(f"a short {PHASES[w]} transient ({sustained * bin_s * 1000:.0f} ms "
+                            "within 6 dB of its peak) is not counted as a murmur")
+            continue
+        out.append(_Candidate(w, tuple(bands), s, e, float(M[w][bands][:, s:e].max())))
+    return out
+
+
+def _spectral(spec: Spectrogram, prof: Profiles, use: np.ndarray, w: int, k0: int, k1: int,
+              quiet: np.ndarray, n_bins: int, fs: float) -> dict:
+    """Excess spectrum of the murmur: its frames minus the beat's quiet frames."""
+    act_spectra, quiet_spectra = [], []
+    for i in np.flatnonzero(use):
+        a, b = prof.windows_s[i, w]
+        edges = np.linspace(a, b, n_bins + 1)
+        ia, ib = np.searchsorted(spec.t, [edges[k0], edges[k1]])
+        if ib <= ia:
+            continue
+        act_spectra.append(spec.power[ia:ib].mean(axis=0))
+        qs = []
+        for ww in (SYS, DIA):
+            aa, bb = prof.windows_s[i, ww]
+            ed = np.linspace(aa, bb, n_bins + 1)
+            for k in np.flatnonzero(quiet[ww]):
+                ja, jb = np.searchsorted(spec.t, [ed[k], ed[k + 1]])
+                if jb > ja:
+                    qs.append(spec.power[ja:jb].mean(axis=0))
+        quiet_spectra.append(np.mean(qs, axis=0) if qs else np.zeros_like(spec.f))
+    f = spec.f
+    if not act_spectra:
+        return {"centroid_hz": float("nan"), "dominant_hz": float("nan"), "spread": 0.0,
+                "tonality": 0.0, "excess": np.zeros_like(f)}
+    excess = np.median(np.array(act_spectra) - np.array(quiet_spectra), axis=0)
+    excess = np.clip(excess, 0.0, None)
+    band = (f >= 25.0) & (f <= min(900.0, 0.45 * fs))
+    excess = np.where(band, excess, 0.0)
+    total = excess.sum()
+    if total <= 0:
+        return {"centroid_hz": float("nan"), "dominant_hz": float("nan"), "spread": 0.0,
+                "tonality": 0.0, "excess": excess}
+    smooth = np.convolve(excess, np.ones(3) / 3.0, mode="same")
+    k = int(np.argmax(smooth))
+    centroid = float(np.sum(f * excess) / total)
+    spread = float(np.sqrt(np.sum((f - centroid) ** 2 * excess) / total))
+    # tonality: energy share within +/-1 bin of the peak, mapped so broadband noise
+    # (which puts about 3 bins' worth there) reads near 0 and a pure tone near 1
+    share = float(excess[max(k - 1, 0): k + 2].sum() / total)
+    n_eff = max(int(band.sum()), 4)
+    base = min(3.0 / n_eff * 3.0, 0.6)
+    tonality = float(np.clip((share - base) / (0.85 - base), 0.0, 1.0))
+    return {"centroid_hz": centroid, "dominant_hz": float(f[k]), "spread": spread,
+            "tonality": tonality, "excess": excess}
+
+
+def _roughness(spec: Spectrogram, prof: Profiles, use: np.ndarray, w: int, k0: int, k1: int,
+               bands: tuple[int, ...], n_bins: int) -> float:
+    """Fast (roughly 10-40 Hz) fluctuation of the murmur-band envelope, relative to its
+    mean, after removing what band-limited noise of the same width shows by itself."""
+    vals = []
+    hop = float(np.median(np.diff(spec.t))) if len(spec.t) > 1 else 0.004
+    for i in np.flatnonzero(use):
+        a, b = prof.windows_s[i, w]
+        edges = np.linspace(a, b, n_bins + 1)
+        ia, ib = np.searchsorted(spec.t, [edges[k0], edges[k1]])
+        if ib - ia < 8:
+            continue
+        env = np.sqrt(spec.band_power[list(bands), ia:ib].sum(axis=0))
+        # detrend with a ~50 ms moving average: what remains is the fast roughness
+        m = max(3, int(round(0.05 / hop)))
+        slow = np.convolve(env, np.ones(m) / m, mode="same")
+        fast = env - slow
+        vals.append(float(np.std(fast[m // 2: len(fast) - m // 2] if len(fast) > m else fast)
+                          / (np.mean(env) + 1e-30)))
+    if not vals:
+        return 0.0
+    return float(np.median(vals))
+
+
+def find_murmurs(spec: Spectrogram, prof: Profiles, config: FindingsConfig) -> MurmurSearch:
+    """Find and describe murmurs from per-beat profiles.
+
+    Parameters
+    ----------
+    spec : Spectrogram
+        Of the conditioned recording (for spectra and roughness).
+    prof : Profiles
+        From :func:`eddyphone.findings.measures.beat_profiles`.
+    config : FindingsConfig
+
+    Returns
+    -------
+    MurmurSearch
+    """
+    cfg = config
+    n_beats = prof.n_beats
+    n_bins = cfg.bins_per_window
+    n_bands = prof.power.shape[2]
+    empty = MurmurSearch((), np.zeros((2, n_bands, n_bins)), (), {}, {})
+    if n_beats == 0:
+        return empty
+    fs = 2.0 * float(spec.f[-1])
+    R = prof.ratio
+    A = _trimmed_mean(R, 0.15)
+    ref_rec = np.percentile(A.transpose(1, 0, 2).reshape(n_bands, -1), 30.0, axis=1)
+    ref_rec = np.maximum(ref_rec, 1e-30)
+    M = 10.0 * np.log10(np.maximum(A / ref_rec[None, :, None], 1e-12))
+    noise_abs = np.median(prof.reference, axis=0) * ref_rec  # typical noise power per band
+    X = np.sum(noise_abs[None, :, None] * np.clip(A / ref_rec[None, :, None] - 1.0, 0, None),
+               axis=1)  # (2, bins) excess power profile, all bands
+    dur_s = np.median(prof.windows_s[:, :, 1] - prof.windows_s[:, :, 0], axis=0)
+    rejected: list[str] = []
+    cands = _candidates(M, X, dur_s, cfg, rejected)
+
+    quiet = np.ones((2, n_bins), dtype=bool)
+    for c in cands:
+        quiet[c.window, max(c.k0 - 1, 0): c.k1 + 1] = False
+    if quiet.sum() < 3:
+        quiet = M.max(axis=1) < np.percentile(M.max(axis=1), 40)
+
+    # excess power over each beat's own noise level, all bands: (beats, 2, bins)
+    noise_beat = prof.reference * ref_rec[None, :]
+    excess_beats = np.clip(prof.power - noise_beat[:, None, :, None], 0.0, None).sum(axis=2)
+    hs_power = 0.5 * (prof.s1_power.sum(axis=1) + prof.s2_power.sum(axis=1))  # per beat
+    murmurs: list[Murmur] = []
+    flags: dict[str, np.ndarray] = {}
+    beat_db: dict[str, np.ndarray] = {}
+    # continuous: a systolic murmur running into S2 and a diastolic one leaving it
+    by_w = {c.window: c for c in cands}
+    continuous = (SYS in by_w and DIA in by_w and by_w[SYS].k1 >= n_bins - 1
+                  and by_w[DIA].k0 <= 1)
+    for c in cands:
+        bands = list(c.bands)
+        act = R[:, c.window][:, bands][:, :, c.k0:c.k1].mean(axis=(1, 2))
+        q = np.concatenate([R[:, ww][:, bands][:, :, quiet[ww]] for ww in (SYS, DIA)],
+                           axis=2)
+        qref = q.mean(axis=(1, 2)) if q.shape[2] else np.ones(n_beats)
+        bdb = 10.0 * np.log10(np.maximum(act / np.maximum(qref, 1e-30), 1e-12))
+        shows = bdb >= cfg.beat_excess_db
+        consistency = float(np.mean(shows))
+        name = PHASES[c.window]
+        flags[name] = shows
+        beat_db[name] = bdb
+        if consistency < cfg.uncertain_consistency:
+            rejected.append(f"a {name} excess seen in only {shows.sum()}/{n_beats} beats "
+                            f"(below {cfg.uncertain_consistency:.0%}) is not counted")
+            continue
+        use = shows if shows.sum() >= 2 else np.ones(n_beats, dtype=bool)
+        prof_w = _trimmed_mean(excess_beats[use][:, c.window], 0.15)
+        full = prof_w / max(prof_w.max(), 1e-30)
+        seg = full[c.k0:c.k1]
+        seg_db = 10.0 * np.log10(np.maximum(seg / max(seg.max(), 1e-30), 1e-6))
+        onset = c.k0 / n_bins
+        end = c.k1 / n_bins
+        timing = timing_word(onset, end)
+        t_conf = float(np.clip(1.0 - 4.0 * min(abs(onset - 0.15), abs(end - 0.85),
+                                               abs(onset - 0.5), abs(end - 2 / 3)), 0.4, 1.0))
+        shape, s_conf = shape_word(seg_db)
+        peak_frac = float((c.k0 + int(np.argmax(seg)) + 0.5) / n_bins)
+        # level: peak excess power per beat (all bands) re the mean S1/S2 power
+        peak_pow = excess_beats[use][:, c.window, c.k0:c.k1].max(axis=1)
+        level = 10.0 * np.log10(max(float(np.median(peak_pow)), 1e-30)
+                                / max(float(np.median(hs_power[use])), 1e-30))
+        sp = _spectral(spec, prof, use, c.window, c.k0, c.k1, quiet, n_bins, fs)
+        rough = _roughness(spec, prof, use, c.window, c.k0, c.k1, c.bands, n_bins)
+        centroid = sp["centroid_hz"]
+        pitch = pitch_word(centroid) if np.isfinite(centroid) else "medium"
+        rel_spread = sp["spread"] / centroid if np.isfinite(centroid) and centroid > 0 else 0.0
+        words = quality_words(pitch=pitch, tonality=sp["tonality"], relative_spread=rel_spread,
+                              roughness=rough, tonal_threshold=cfg.tonal_threshold)
+        band_e = {}
+        tot = float(sp["excess"].sum())
+        for lo, hi in spec.bands_hz:
+            sel = (spec.f >= lo) & (spec.f < hi)
+            band_e[f"{lo:g}-{hi:g}_hz"] = float(sp["excess"][sel].sum() / tot) if tot > 0 \
+                else 0.0
+        snr = float(c.peak_db)
+        if level < cfg.min_level_db_re_heart_sounds:
+            rejected.append(f"a {name} excess {level:.0f} dB below the heart sounds is too "
+                            "faint to call a murmur")
+            continue
+        presence = "present" if (consistency >= cfg.present_consistency
+                                 and n_beats >= cfg.min_beats) else "uncertain"
+        strength = float(np.clip((snr - cfg.excess_db) / 6.0 + 0.5, 0.0, 1.0))
+        conf = float(np.clip(0.5 * consistency + 0.5 * strength, 0.0, 1.0))
+        if presence == "uncertain":
+            conf = min(conf, 0.6)
+        murmurs.append(Murmur(
+            id="", phase=name, presence=presence, confidence=conf, timing=timing,
+            timing_confidence=t_conf, shape=shape, shape_confidence=s_conf, pitch=pitch,
+            dominant_frequency_hz=sp["dominant_hz"], centroid_hz=centroid,
+            quality_words=words, consistency=consistency, grade_range=grade_range(level),
+            grade_note=GRADE_NOTE, level_db_re_heart_sounds=level, peak_fraction=peak_frac,
+            beats_with_murmur=int(shows.sum()), beats_used=n_beats,
+            profile=tuple(float(v) for v in full), spectrum=band_e,
+            tonality=sp["tonality"], snr_db=snr))
+    if continuous and len(murmurs) == 2 and all(m.presence == "present" for m in murmurs):
+        murmurs = [_merge_continuous(murmurs[0], murmurs[1])]
+    murmurs.sort(key=lambda m: (m.presence != "present", -m.level_db_re_heart_sounds))
+    murmurs = [_with_id(m, f"m{i + 1}") for i, m in enumerate(murmurs)]
+    return MurmurSearch(tuple(murmurs), M, tuple(rejected), flags, beat_db)
+
+
+def _with_id(m: Murmur, new_id: str) -> Murmur:
+    from dataclasses import replace
+
+    return replace(m, id=new_id)
+
+
+def _merge_continuous(s: Murmur, d: Murmur) -> Murmur:
+    """One murmur running from systole through S2 into diastole."""
+    from dataclasses import replace
+
+    loud = s if s.level_db_re_heart_sounds >= d.level_db_re_heart_sounds else d
+    prof = tuple(s.profile) + tuple(d.profile)
+    k = int(np.argmax(prof))
+    peak = (k + 0.5) / len(prof)
+    shape = "crescendo-decrescendo" if 0.2 < peak < 0.8 else ("crescendo" if peak >= 0.8
+                                                              else "decrescendo")
+    return replace(loud, phase="continuous", timing="holo", shape=shape, peak_fraction=peak,
+                   profile=prof, consistency=min(s.consistency, d.consistency),
+                   beats_with_murmur=min(s.beats_with_murmur, d.beats_with_murmur),
+                   confidence=min(s.confidence, d.confidence))
