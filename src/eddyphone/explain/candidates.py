@@ -118,7 +118,7 @@ def score_murmur(murmur: object, *, extra_kinds: Iterable[str], basis: Basis,
             no_flow_disturbance=w("prior_no_flow_disturbance")),
     ]
     ev += _sound_evidence(murmur, set(extra_kinds), basis, config)
-    ev += _context_evidence(murmur.phase, basis, config)
+    ev += _context_evidence(murmur.phase, murmur_pattern(murmur), basis, config)
     return [e for e in ev if e.weights]
 
 
@@ -244,31 +244,34 @@ def _sound_evidence(m: object, extras: set[str], basis: Basis,
     return ev
 
 
-def _context_evidence(phase: str, basis: Basis, config: ExplainConfig) -> list[Evidence]:
+def _context_evidence(phase: str, pattern: str, basis: Basis,
+                      config: ExplainConfig) -> list[Evidence]:
     w = config.w
     ev: list[Evidence] = []
     lv = levers(basis, phase, config)
     known_normal = []
     if basis.cardiac_output_source != "default":
-        ev.append(_ev(f"cardiac output {basis.cardiac_output_l_min:.3g} L/min raises Re by a "
-                      f"factor {lv.flow_factor:.2f}",
-                      high_flow=w("flow_ratio_flow") * math.log(lv.flow_factor)))
+        ev.append(_ev(f"cardiac output {basis.cardiac_output_l_min:.3g} L/min: flow factor "
+                      f"{lv.flow_factor:.2f} on Re (a measured output leaves high flow only "
+                      "as much room as it is raised)",
+                      high_flow=w("flow_ratio_flow") * math.log(lv.flow_factor)
+                      + w("known_flow_offset")))
         if 0.8 <= lv.flow_factor <= 1.3:
             known_normal.append("cardiac output")
     if basis.hematocrit_source == "context":
         ev.append(_ev(f"hematocrit {basis.hematocrit:.2f}: viscosity factor "
-                      f"{lv.viscosity_factor:.2f} on Re",
+                      f"{lv.viscosity_factor:.2f} on Re (thin blood needs a low hematocrit)",
                       low_viscosity=w("viscosity_ratio_low_viscosity")
-                      * math.log(lv.viscosity_factor)))
-        if 0.38 <= basis.hematocrit <= 0.52:
-            known_normal.append("hematocrit")
+                      * math.log(lv.viscosity_factor) + w("known_hematocrit_offset")))
     if basis.diameter_m is not None:
         ref = _reference_diameter(basis, phase)
         ratio = ref / basis.diameter_m
+        offset = 0.0 if pattern == "leak" else w("known_diameter_offset")
         ev.append(_ev(f"supplied diameter {basis.diameter_m * 1e3:.3g} mm against a normal "
-                      f"{ref * 1e3:.3g} mm (diameter factor {ratio:.2f})",
-                      narrowed_orifice=w("diameter_ratio_orifice") * math.log(ratio)))
-        if ratio <= 1.15:
+                      f"{ref * 1e3:.3g} mm: diameter factor {ratio:.2f} on Re",
+                      narrowed_orifice=w("diameter_ratio_orifice") * math.log(ratio)
+                      + offset))
+        if ratio <= 1.15 and pattern != "leak":
             known_normal.append("diameter")
     states = set(basis.states)
     high = sorted(states & set(HIGH_OUTPUT_STATES))
@@ -289,8 +292,8 @@ def _context_evidence(phase: str, basis: Basis, config: ExplainConfig) -> list[E
                           "common", wall_irregularity=w("young_wall"),
                           high_flow=w("young_flow")))
     if known_normal:
-        ev.append(_ev(f"{', '.join(known_normal)} known to be normal: disturbed flow without "
-                      "a raised Re points to walls that trip turbulence early",
+        ev.append(_ev(f"{' and '.join(known_normal)} known to be normal: disturbed flow "
+                      "without a raised Re points to walls that trip turbulence early",
                       wall_irregularity=w("normal_lever_wall") * len(known_normal)))
     return ev
 

@@ -192,9 +192,14 @@ DEFAULT_WEIGHTS: dict[str, float] = {
     # measured heart rate: tachycardia goes with high-output states
     "tachycardia_flow": 1.5,
     # patient context: physics levers of Re (per natural-log unit of the ratio)
-    "flow_ratio_flow": 3.5,
-    "viscosity_ratio_low_viscosity": 5.0,
+    # a measured value also removes the benefit of the doubt an unknown one leaves, so
+    # a normal measured value counts against its mechanism (the offsets)
+    "flow_ratio_flow": 4.0,
+    "known_flow_offset": -1.0,
+    "viscosity_ratio_low_viscosity": 6.0,
+    "known_hematocrit_offset": -1.5,
     "diameter_ratio_orifice": 3.0,
+    "known_diameter_offset": -1.0,
     "high_output_state_flow": 1.5,
     "extra_state_flow": 0.5,
     "anemia_low_viscosity": 2.0,
