@@ -52,10 +52,11 @@ WEISSLER_HR_RANGE_BPM = (40.0, 120.0)
 Q_TO_M1_S = 0.050
 Q_TO_M1_SD_S = 0.010
 
-#: The linear fits shorten systole too much above about 150 bpm (exercise data show
-#: ejection lasting longer than the line predicts). Our own guard, not published:
-#: the S1-to-S2 interval is kept at or above this fraction of the cycle.
-MIN_SYSTOLIC_FRACTION = 0.45
+#: The linear fits shorten systole too much above their fitted range (exercise data
+#: show ejection lasting longer than the line predicts, and the line would make
+#: systole a shrinking share of the cycle). Our own guard, not published: above
+#: ``WEISSLER_HR_RANGE_BPM[1]`` the S1-to-S2 interval keeps at least the share of the
+#: cycle it has at that rate.
 
 # --- Splits of the heart sounds ----------------------------------------------------
 #: Mitral-to-tricuspid (M1-T1) delay in s: "about 20-30 ms" in clinical texts on
@@ -161,8 +162,8 @@ def systolic_interval_s(heart_rate_bpm: float, *, sex: str = "male") -> tuple[fl
 
     Total electromechanical systole QS2 from the Weissler et al. 1968 regression
     (coefficients from memory) minus the Q-to-M1 delay (``Q_TO_M1_S``, common
-    practice). Above about 150 bpm the line is extrapolated and the interval is held
-    at ``MIN_SYSTOLIC_FRACTION`` of the cycle or more (our own guard).
+    practice). Above 120 bpm the line is extrapolated and the interval keeps at least
+    the share of the cycle it has at 120 bpm (our own guard).
 
     Parameters
     ----------
@@ -184,7 +185,11 @@ def systolic_interval_s(heart_rate_bpm: float, *, sex: str = "male") -> tuple[fl
     """
     hr = _check_hr(heart_rate_bpm)
     qs2 = _regression(WEISSLER_QS2, sex, hr)
-    mean = max(qs2 - Q_TO_M1_S, MIN_SYSTOLIC_FRACTION * 60.0 / hr)
+    mean = qs2 - Q_TO_M1_S
+    top = WEISSLER_HR_RANGE_BPM[1]
+    if hr > top:
+        share = (_regression(WEISSLER_QS2, sex, top) - Q_TO_M1_S) / (60.0 / top)
+        mean = max(mean, share * 60.0 / hr)
     sd = (WEISSLER_QS2_SD_S**2 + Q_TO_M1_SD_S**2) ** 0.5
     return mean, sd
 

@@ -79,7 +79,7 @@ def demo_specs() -> dict[str, CaseSpec]:
             heart_rate_bpm=78, site="mitral", device="bell", snr_db=22, breathing=0.25,
             opening_snap=True, seed=108,
             murmur=MurmurSpec(cause="narrowed_inflow", diameter_m=_d_from_area_cm2(1.0),
-                              velocity_m_s=2.0),
+                              velocity_m_s=2.3),
             note="Narrowed inflow valve: opening snap, mid-diastolic rumble, "
                  "presystolic accent"),
         "09_diastolic_leak": base.with_(

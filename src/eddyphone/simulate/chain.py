@@ -48,7 +48,7 @@ def _diaphragm(f: np.ndarray) -> np.ndarray:
 
 def _bell(f: np.ndarray) -> np.ndarray:
     # the open bell passes the low band and loses the high band
-    return _highpass_db(f, 15.0, 1) + _lowpass_db(f, 250.0, 2)
+    return _highpass_db(f, 15.0, 1) + _lowpass_db(f, 180.0, 2)
 
 
 def _steep_tilt(f: np.ndarray) -> np.ndarray:
@@ -78,7 +78,7 @@ DEVICES: dict[str, Callable[[np.ndarray], np.ndarray]] = {
 DEVICE_NOTES = {
     "flat": "ideal transducer, DC blocked below 8 Hz",
     "diaphragm": "acoustic diaphragm: high-pass 90 Hz (2nd order), +4 dB near 200 Hz",
-    "bell": "acoustic bell: passes 15-250 Hz, 2nd-order roll-off above",
+    "bell": "acoustic bell: passes 15-180 Hz, 2nd-order roll-off above",
     "steep_tilt": "electronic chest piece with strong low-frequency tilt: "
                   "-35 dB from 20 to 200 Hz, -70 dB by 400 Hz",
     "phone": "phone microphone on the chest: 3rd-order high-pass at 110 Hz",

@@ -83,6 +83,11 @@ def _streams(seed: int, k: int) -> list[np.random.Generator]:
     return [np.random.default_rng(s) for s in np.random.SeedSequence(seed).spawn(k)]
 
 
+def _within(value: float, window: tuple[float, float], margin: float = 0.002) -> float:
+    # keep beat-to-beat jitter inside the published window (plus rounding to samples)
+    return float(np.clip(value, window[0] + margin, window[1] - margin))
+
+
 def _db(p: float) -> float:
     return float(10 * np.log10(max(p, 1e-30)))
 
@@ -173,7 +178,8 @@ def generate(spec: CaseSpec, *, seed: int | None = None) -> Simulated:
             g1 *= 1 + r_sound.normal(0, 0.08)
         g2 = (1.0 + r_sound.normal(0, 0.06)) * (0.5 if premature else 1.0)
         m1 = add_component(sounds, fs, s1, comp1, site["S1"] * g1, timbres["M1"], r_sound)
-        t1 = add_component(sounds, fs, s1 + m1_t1 + r_sound.normal(0, 0.002), comp1,
+        t1_delay = float(np.clip(m1_t1 + r_sound.normal(0, 0.002), *physiology.S1_SPLIT_S))
+        t1 = add_component(sounds, fs, s1 + t1_delay, comp1,
                            site["S1"] * site["T1"] * g1, timbres["T1"], r_sound)
         a2 = add_component(sounds, fs, s1 + sys, comp2, site["S2"] * g2, timbres["A2"], r_sound)
         p2 = add_component(sounds, fs, s1 + sys + split, comp2, site["S2"] * site["P2"] * g2,
@@ -201,7 +207,7 @@ def generate(spec: CaseSpec, *, seed: int | None = None) -> Simulated:
         lows = site["low"]
         s3_iv = None
         if spec.s3:
-            on = a2[0] + s3_delay + r_sound.normal(0, 0.004)
+            on = a2[0] + _within(s3_delay + r_sound.normal(0, 0.004), physiology.S3_AFTER_A2_S)
             d = max(r_sound.normal(*physiology.S3_DURATION_S), 0.025)
             if on > s2_end + 0.01 and on + d < nxt - 0.06:
                 s3_iv = add_component(sounds, fs, on, d, 0.35 * lows * (1 + r_sound.normal(0, 0.1)),
@@ -209,21 +215,23 @@ def generate(spec: CaseSpec, *, seed: int | None = None) -> Simulated:
                 events.append((s3_iv[0], s3_iv[1], "S3"))
         if spec.s4 and sinus and not premature:
             d = max(r_sound.normal(*physiology.S4_DURATION_S), 0.025)
-            on = nxt - s4_lead + r_sound.normal(0, 0.004)
+            on = nxt - _within(s4_lead + r_sound.normal(0, 0.004), physiology.S4_BEFORE_S1_S)
             clear = s3_iv is None or on > s3_iv[1] + 0.02
             if on > s2_end + 0.06 and clear and on + d <= nxt:
                 iv = add_component(sounds, fs, on, d, 0.35 * lows * (1 + r_sound.normal(0, 0.1)),
                                    timbres["S4"], r_sound)
                 events.append((iv[0], iv[1], "S4"))
         if spec.ejection_click:
-            on = m1[0] + click_delay + r_sound.normal(0, 0.003)
+            on = m1[0] + _within(click_delay + r_sound.normal(0, 0.003),
+                                 physiology.EJECTION_CLICK_AFTER_S1_S)
             d = r_sound.uniform(0.012, 0.022)
             if on + d < a2[0] - 0.03:
                 iv = add_component(sounds, fs, on, d, 0.7 * max(site["S2"], 0.7) * g2,
                                    timbres["click"], r_sound)
                 events.append((iv[0], iv[1], "click"))
         if spec.opening_snap:
-            on = a2[0] + snap_delay + r_sound.normal(0, 0.003)
+            on = a2[0] + _within(snap_delay + r_sound.normal(0, 0.003),
+                                 physiology.OPENING_SNAP_AFTER_A2_S)
             d = r_sound.uniform(0.015, 0.028)
             if on > a2[0] + 0.03 and on + d < nxt - 0.08:
                 iv = add_component(sounds, fs, on, d, 0.6 * (1 + r_sound.normal(0, 0.08)),

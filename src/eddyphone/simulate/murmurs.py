@@ -97,7 +97,7 @@ FULL_TURBULENCE_FACTOR = 10.0
 GRADE_EDGES_DB = (-20.0, -13.0, -6.0, 0.0, 6.0)
 
 #: Pitch words from the spectral centroid of the source, Hz (our own cut points).
-PITCH_EDGES_HZ = (120.0, 250.0)
+PITCH_EDGES_HZ = (180.0, 400.0)
 
 #: Pressure half-time of a narrowed mitral valve: 220 ms divided by the valve area
 #: in cm2 (Hatle, Angelsen & Tromsdal 1979, from memory).
@@ -270,10 +270,10 @@ def ejection_peak_fraction(cause: str, velocity_m_s: float) -> float:
     """Where in ejection the flow peaks: early for flow murmurs, later as an outflow
     valve narrows (the jet takes longer to reach its peak)."""
     if cause == "narrowed_outflow":
-        return 0.45 + 0.25 * float(np.clip((velocity_m_s - 2.5) / 2.5, 0.0, 1.0))
+        return 0.5 + 0.22 * float(np.clip((velocity_m_s - 2.5) / 2.5, 0.0, 1.0))
     if cause == "wall_irregularity":
-        return 0.42
-    return 0.38
+        return 0.45
+    return 0.40
 
 
 def beat_velocity(plan: MurmurPlan, t: np.ndarray, beat: dict, *, sinus: bool
@@ -307,10 +307,16 @@ def beat_velocity(plan: MurmurPlan, t: np.ndarray, beat: dict, *, sinus: bool
         tt = t[sel] - mo
         area_cm2 = float(physics.area_m2(plan.diameter_m)) * 1e4
         pht = PRESSURE_HALF_TIME_CONSTANT_S_CM2 / area_cm2
-        dp = (1 - np.exp(-tt / 0.035)) * 2.0 ** (-tt / pht)
+        # inflow accelerates over the first ~60 ms after opening (early filling
+        # acceleration time, common practice), then the gradient decays with the
+        # pressure half-time
+        dp = (1 - np.exp(-tt / 0.06)) * 2.0 ** (-tt / pht)
+        if dp.size:
+            dp = dp / max(dp.max(), 1e-9)
         if sinus:
+            # atrial contraction raises the gradient again just before S1
             kick_t = nxt - 0.07
-            dp = dp + 0.45 * np.exp(-0.5 * ((t[sel] - kick_t) / 0.03) ** 2)
+            dp = dp + 0.3 * np.exp(-0.5 * ((t[sel] - kick_t) / 0.03) ** 2)
         v[sel] = np.sqrt(np.clip(dp, 0, None)) * _ramp(nxt - t[sel], 0.01)
     elif cause == "continuous":
         # aorta-to-pulmonary-artery gradient: aortic pressure peaks late in ejection and
