@@ -185,7 +185,7 @@ def run_cluster(tasks: Sequence[Mapping[str, Any]], scheduler: str,
         raise InputError(None, "--scheduler needs the Dask distributed package",
                          "install eddyphone with its 'cluster' extra") from None
     try:
-        client = Client(scheduler, timeout="20s", set_as_default=False)
+        client = Client(scheduler, timeout="10s", set_as_default=False)
     except (OSError, TimeoutError) as exc:
         raise InputError(scheduler, f"cannot reach the Dask scheduler ({exc})",
                          "check the address (tcp://host:port) and that the scheduler runs"
@@ -194,7 +194,7 @@ def run_cluster(tasks: Sequence[Mapping[str, Any]], scheduler: str,
         futures = client.map(analyse_task, list(tasks), pure=False,
                              key=[f"eddyphone-{t['key']}" for t in tasks])
         by_key = {f.key: t for f, t in zip(futures, tasks)}
-        for future in as_completed(futures):
+        for future in as_completed(futures, loop=client.loop):
             task = by_key[future.key]
             try:
                 record = future.result()

@@ -1,0 +1,131 @@
+"""Benchmark: batch throughput, speed-up with workers, overhead, memory, resume cost.
+
+Writes ``--n`` simulated recordings of ``--duration`` seconds
+(:func:`eddyphone.simulate.benchmark_specs`), then measures in this run:
+
+- the sum of single analyses: ``eddyphone.analyze(path).to_dict()`` on each file,
+  one after another in this process (the work a batch has to do anyway);
+- ``run_batch`` with 1 worker and with ``--workers`` workers (fresh output folders),
+  wall time from call to return, including start-up, hashing and consolidation;
+- throughput (recordings per second), speed-up over 1 worker, batch overhead of the
+  1-worker run over the sum of single analyses, peak resident memory per worker
+  process (from each worker's own ``getrusage``), and the time a re-run takes when
+  everything is already done.
+
+Targets (tracker issue 9): speed-up >= 1.8 with 2 workers; overhead < 10 %.
+
+    python bench/bench_batch.py [--n 200] [--duration 20] [--workers 2] [--seed 0]
+"""
+
+from __future__ import annotations
+
+import argparse
+import json
+import os
+import shutil
+import tempfile
+import time
+from concurrent.futures import ProcessPoolExecutor
+from pathlib import Path
+
+
+def _write_case(args: tuple) -> str:
+    spec, folder, case_id = args
+    from eddyphone.simulate import generate, write
+
+    return str(write(generate(spec), folder, case_id, overwrite=True)["wav"])
+
+
+def _records(out: Path) -> list[dict]:
+    found = []
+    for p in (out / "records").rglob("*.json"):
+        if not p.name.startswith(".") and not p.name.endswith(".analysis.json"):
+            found.append(json.loads(p.read_text()))
+    return found
+
+
+def main() -> None:
+    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument("--n", type=int, default=200)
+    parser.add_argument("--duration", type=float, default=20.0)
+    parser.add_argument("--workers", type=int, default=2)
+    parser.add_argument("--seed", type=int, default=0)
+    parser.add_argument("--keep", metavar="DIR", help="work in DIR and keep it")
+    args = parser.parse_args()
+
+    from eddyphone import analyze
+    from eddyphone.batch import run_batch
+    from eddyphone.simulate import benchmark_specs
+
+    work = Path(args.keep) if args.keep else Path(tempfile.mkdtemp(prefix="bench_batch_"))
+    folder = work / "recordings"
+    specs = benchmark_specs(args.n, seed=args.seed, duration_s=args.duration)
+    t0 = time.perf_counter()
+    with ProcessPoolExecutor(max_workers=os.cpu_count()) as pool:
+        files = list(pool.map(_write_case, [(s, folder, f"case_{i:04d}")
+                                            for i, s in enumerate(specs)]))
+    print(f"wrote {len(files)} recordings of {args.duration:g} s in "
+          f"{time.perf_counter() - t0:.1f} s ({os.cpu_count()} cores)")
+
+    singles = []
+    failed_single = 0
+    t0 = time.perf_counter()
+    for path in files:
+        start = time.perf_counter()
+        try:
+            analyze(path).to_dict()
+        except Exception:  # noqa: BLE001 - counted, as the batch counts them
+            failed_single += 1
+        singles.append(time.perf_counter() - start)
+    sum_single = sum(singles)
+    print(f"single analyses, one after another: {sum_single:.1f} s in total, "
+          f"{1000 * sum_single / len(files):.0f} ms per recording ({failed_single} failed)")
+
+    walls = {}
+    runs = {}
+    for workers in sorted({1, args.workers}):
+        out = work / f"out_w{workers}"
+        shutil.rmtree(out, ignore_errors=True)
+        start = time.perf_counter()
+        table = run_batch([folder], out, workers=workers, progress=False)
+        walls[workers] = time.perf_counter() - start
+        runs[workers] = (out, table)
+        counts = table.attrs["counts"]
+        print(f"batch, {workers} worker(s): {walls[workers]:.1f} s wall, "
+              f"{counts['succeeded']} rows, {counts['failed']} failed, "
+              f"{len(files) / walls[workers]:.2f} recordings/s")
+
+    out1, table1 = runs[1]
+    in_worker = sum(r.get("elapsed_s", 0.0) for r in _records(out1))
+    overhead = (walls[1] - sum_single) / sum_single
+    print(f"overhead of the 1-worker batch over the sum of single analyses: "
+          f"{100 * overhead:+.1f} % (target < 10 %); "
+          f"in-worker analysis time {in_worker:.1f} s")
+    if args.workers > 1:
+        speedup = walls[1] / walls[args.workers]
+        print(f"speed-up with {args.workers} workers over 1: {speedup:.2f} "
+              f"(target >= 1.8 for 2 workers)")
+        outw, tablew = runs[args.workers]
+        same = table1.equals(tablew)
+        print(f"tables of the 1-worker and {args.workers}-worker runs identical: {same}")
+    else:
+        outw = out1
+    peaks: dict[str, float] = {}
+    for r in _records(outw):
+        if r.get("peak_rss_mb") is not None:
+            peaks[r["worker"]] = max(peaks.get(r["worker"], 0.0), r["peak_rss_mb"])
+    if peaks:
+        print("peak resident memory per worker process: "
+              + ", ".join(f"{v:.0f} MB" for v in sorted(peaks.values()))
+              + f" ({len(peaks)} processes)")
+    start = time.perf_counter()
+    again = run_batch([folder], outw, workers=args.workers, progress=False)
+    wall = time.perf_counter() - start
+    print(f"re-run with everything done: {wall:.2f} s for {len(files)} recordings "
+          f"({again.attrs['counts']['analysed']} analysed again)")
+    if not args.keep:
+        shutil.rmtree(work, ignore_errors=True)
+
+
+if __name__ == "__main__":
+    main()

@@ -1,0 +1,367 @@
+"""Batch runs: inputs, feature rows, errors, resuming, a killed run, a Dask cluster.
+
+References outside the project: tables are read back with pandas/pyarrow (the
+Parquet reader) and Python's csv module; statistics are re-computed with the
+standard-library ``statistics`` module; per-recording rows are compared with
+``eddyphone.analyze`` run directly on the same file.
+"""
+
+from __future__ import annotations
+
+import csv
+import json
+import math
+import os
+import signal
+import statistics
+import subprocess
+import sys
+import time
+from pathlib import Path
+
+import pandas as pd
+import pytest
+from _batch_data import write_broken, write_study
+
+from eddyphone.batch import collect, run_batch
+from eddyphone.batch.features import recording_row
+from eddyphone.batch.inputs import content_hash
+from eddyphone.batch.runner import Progress
+from eddyphone.errors import InputError, ParameterError
+
+N_STUDY = 6
+
+
+@pytest.fixture(scope="module")
+def study(tmp_path_factory) -> Path:
+    folder = tmp_path_factory.mktemp("study")
+    write_study(folder, N_STUDY)
+    return folder
+
+
+@pytest.fixture(scope="module")
+def reference(study, tmp_path_factory) -> pd.DataFrame:
+    """An uninterrupted local run over the manifest, two workers, beats on."""
+    out = tmp_path_factory.mktemp("reference")
+    return run_batch([study / "manifest.csv"], out, workers=2, beats=True, progress=False)
+
+
+# --- inputs -------------------------------------------------------------------------
+
+def test_collect_folders_globs_and_manifest(study):
+    from_folder = collect([study])
+    assert len(from_folder) == N_STUDY  # recursive: both ward sub-folders
+    assert all(p.path.endswith(".wav") for p in from_folder)
+    from_glob = collect([str(study / "ward_a" / "*.wav")])
+    assert len(from_glob) == (N_STUDY + 1) // 2
+    from_manifest = collect([study / "manifest.csv"])
+    assert [Path(i.path).resolve() for i in from_manifest] == \
+        [Path(i.path).resolve() for i in sorted(from_folder, key=lambda i: i.path[-7:])]
+    first = from_manifest[0]
+    assert first.load["site"] == "mitral" and first.load["posture"] == "sitting"
+    assert first.extra == {"arm": "treated"}
+    # the same file twice (folder and manifest) is analysed once
+    assert len(collect([study, study / "manifest.csv"])) == N_STUDY
+
+
+def test_collect_rejects_what_does_not_exist(tmp_path):
+    with pytest.raises(InputError, match="no such file"):
+        collect([tmp_path / "missing_folder"])
+    with pytest.raises(InputError, match="matches no recordings"):
+        collect([str(tmp_path / "*.wav")])
+    (tmp_path / "empty").mkdir()
+    with pytest.raises(InputError, match="holds no recordings"):
+        collect([tmp_path / "empty"])
+
+
+def test_wfdb_signal_beside_header_is_not_counted_twice(tmp_path):
+    (tmp_path / "a.hea").write_text("a 1 4000 8000\na.wav 16 1 16 0 0 0 0 PCG\n")
+    (tmp_path / "a.wav").write_bytes(b"RIFF")
+    (tmp_path / "b.wav").write_bytes(b"RIFF")
+    assert sorted(Path(i.path).name for i in collect([tmp_path])) == ["a.hea", "b.wav"]
+
+
+def test_content_hash_covers_sidecar(tmp_path):
+    import hashlib
+
+    wav = tmp_path / "x.wav"
+    wav.write_bytes(b"0123456789")
+    before = content_hash(wav)
+    # hashlib (reference): the hash is a SHA-256 hex digest of 64 characters
+    assert len(before) == len(hashlib.sha256(b"").hexdigest())
+    (tmp_path / "x.meta.json").write_text('{"site": "aortic"}')
+    assert content_hash(wav) != before
+
+
+def test_manifest_context_columns_reach_the_analysis(tmp_path, study):
+    manifest = tmp_path / "m.csv"
+    wav = study / "ward_a" / "rec_000.wav"
+    manifest.write_text(f"path,hematocrit,age_years,cohort\n{wav},0.3,61,x\n")
+    df = run_batch([manifest], tmp_path / "out", workers=1, per_recording_json=True,
+                   progress=False)
+    assert df.loc[0, "context_hematocrit"] == pytest.approx(0.3)
+    assert df.loc[0, "context_age_years"] == pytest.approx(61.0)
+    assert df.loc[0, "cohort"] == "x"
+    data = json.loads((tmp_path / "out" / "json" / "rec_000.json").read_text())
+    assert data["context"]["hematocrit"] == pytest.approx(0.3)
+    assert data["recording"]["metadata"] == {"cohort": "x"}
+
+
+# --- feature rows -------------------------------------------------------------------
+
+def test_feature_row_matches_a_direct_analysis(study, reference):
+    import eddyphone
+
+    path = study / "ward_b" / "rec_001.wav"
+    data = eddyphone.analyze(path).to_dict()
+    row = reference.loc[reference["path"].map(lambda p: Path(p).name) == "rec_001.wav"].iloc[0]
+    summary = data["summary"]
+    for key in ("heart_rate_bpm", "quality_score", "murmur", "beats"):
+        assert row[key] == summary[key], key
+    assert row["rhythm_systolic_interval_s"] == data["rhythm"]["systolic_interval_s"]
+    assert row["config_digest"] == data["config"]["digest"]
+    # statistics module (reference): mean and sample standard deviation of beat fields
+    systoles = [b["systole_ms"] for b in data["beats"]]
+    assert row["beats_systole_ms_mean"] == pytest.approx(statistics.fmean(systoles), abs=1e-3)
+    assert row["beats_systole_ms_sd"] == pytest.approx(statistics.stdev(systoles), abs=1e-3)
+    rr = [b["rr_s"] for b in data["beats"] if b["rr_s"] is not None]
+    assert row["beats_rr_s_mean"] == pytest.approx(statistics.fmean(rr), abs=1e-4)
+    # segmented seconds per label add up to the segmented fraction of the recording
+    total = sum(row[f"segments_{k}_s"] for k in ("S1", "systole", "S2", "diastole"))
+    assert row["segments_fraction"] == pytest.approx(total / row["recording_duration_s"],
+                                                     abs=1e-3)
+
+
+def test_new_contract_fields_flow_into_the_row():
+    data = {"summary": {"murmur": "present", "a_field_added_later": 3.5,
+                        "murmur_quality": ["harsh", "blowing"]},
+            "quality": {"score": 0.8, "measures": {"contrast_db": 12.0, "new_measure": 1.0}},
+            "findings": [{"id": "m1", "kind": "murmur", "phase": "systolic",
+                          "spectrum": {"100-200_hz": 0.5}, "profile": [0.1, 1.0],
+                          "new_murmur_field": "x"},
+                         {"id": "x1", "kind": "extra_sound", "sound": "S3",
+                          "confidence": 0.7, "timing_ms": 140.0},
+                         {"id": "x2", "kind": "extra_sound", "sound": "pericardial_knock",
+                          "confidence": 0.4, "timing_ms": 100.0}],
+            "mechanisms": [{"name": "high_flow", "finding_id": None, "rank": 1, "score": 0.7,
+                            "label": "more flow"},
+                           {"name": "narrowed_orifice", "finding_id": None, "rank": 2,
+                            "score": 0.2}],
+            "beats": [{"index": 0, "systole_ms": 300.0, "new_beat_measure_db": 3.0},
+                      {"index": 1, "systole_ms": 320.0, "new_beat_measure_db": float("nan")}]}
+    row = recording_row(data)
+    assert row["a_field_added_later"] == 3.5
+    assert row["murmur_quality"] == "harsh; blowing"
+    assert row["quality_new_measure"] == 1.0
+    assert row["main_murmur_new_murmur_field"] == "x"
+    assert row["main_murmur_spectrum_100-200_hz"] == 0.5
+    assert json.loads(row["main_murmur_profile"]) == [0.1, 1.0]
+    assert row["has_S3"] is True and row["S3_timing_ms"] == 140.0
+    assert row["has_S4"] is False and row["S4_timing_ms"] is None
+    assert row["has_pericardial_knock"] is True
+    assert row["top_mechanism_label"] == "more flow"
+    assert row["mechanism_narrowed_orifice_score"] == 0.2
+    assert row["beats_new_beat_measure_db_mean"] == 3.0  # NaN left out of the mean
+    assert all(v is None or isinstance(v, (bool, int, float, str)) for v in row.values())
+
+
+# --- outputs, errors, resuming ------------------------------------------------------
+
+def test_mixed_good_and_broken_files(study, tmp_path):
+    broken = write_broken(tmp_path / "incoming")
+    out = tmp_path / "out"
+    head = [sys.executable, "-m", "eddyphone.cli", "batch", str(study), str(tmp_path / "incoming")]
+    tail = ["--out", str(out), "--workers", "2"]
+    # a missing file given by name is an input error before anything runs
+    done = subprocess.run(head + [str(tmp_path / "vanished.wav")] + tail, capture_output=True,
+                          text=True, timeout=300)
+    assert done.returncode == 2 and "vanished.wav" in done.stderr
+    assert not (out / "features.parquet").exists()
+    done = subprocess.run(head + tail, capture_output=True, text=True, timeout=300)
+    assert done.returncode == 1, done.stderr  # some files failed
+    table = pd.read_parquet(out / "features.parquet")  # pyarrow reader (reference)
+    good = {str(p) for p in study.rglob("*.wav")}
+    assert set(table["path"]) == good
+    with (out / "errors.csv").open(newline="") as fh:  # csv module (reference)
+        rows = list(csv.DictReader(fh))
+    assert {r["path"] for r in rows} == {str(p) for p in broken}
+    for r in rows:
+        assert r["reason"] and "\n" not in r["reason"]
+    assert any("empty" in r["reason"] for r in rows)
+    assert any("long" in r["reason"] for r in rows)  # too short: "only 0.50 s long"
+    assert f"{len(broken)} failed" in done.stderr
+
+
+def test_all_good_exits_zero_and_csv_equals_parquet(study, reference, tmp_path):
+    from eddyphone.cli import main
+
+    out = tmp_path / "csv_out"
+    status = main(["batch", str(study / "manifest.csv"), "--out", str(out), "--csv",
+                   "--workers", "2", "--quiet", "--beats"])
+    assert status == 0
+    from_csv = pd.read_csv(out / "features.csv")
+    assert list(from_csv.columns) == list(reference.columns)
+    for name in ("path", "site", "arm", "murmur", "heart_rate_bpm", "beats_n",
+                 "rhythm_rr_cv", "quality_score"):
+        left, right = from_csv[name].tolist(), reference[name].tolist()
+        for a, b in zip(left, right):
+            if isinstance(b, float) and math.isnan(b):
+                assert isinstance(a, float) and math.isnan(a)
+            else:
+                assert a == pytest.approx(b) if isinstance(b, float) else a == b
+    assert len(pd.read_csv(out / "beats.csv")) == len(reference.attrs["beats"])
+    assert (out / "errors.csv").read_text() == "path,reason\n"
+
+
+def test_reference_table_layout(study, reference):
+    out = Path(reference.attrs["paths"]["features"]).parent
+    table = pd.read_parquet(out / "features.parquet")
+    pd.testing.assert_frame_equal(table, reference, check_dtype=False)
+    assert list(table.columns[:5]) == ["path", "patient", "site", "posture", "arm"]
+    assert table["arm"].tolist() == ["control" if i % 2 else "treated" for i in range(N_STUDY)]
+    assert table["eddyphone_version"].nunique() == 1
+    beats = pd.read_parquet(out / "beats.parquet")
+    assert beats.groupby("path").size().to_dict() == \
+        table.set_index("path")["beats_n"].to_dict()
+    run = json.loads((out / "run.json").read_text())
+    assert run["counts"] == {"recordings": N_STUDY, "analysed": N_STUDY, "reused": 0,
+                             "failed": 0, "succeeded": N_STUDY}
+    assert run["config_digest"] == table["config_digest"].iloc[0]
+
+
+def test_rerun_reuses_everything(study, reference):
+    out = Path(reference.attrs["paths"]["features"]).parent
+    again = run_batch([study / "manifest.csv"], out, workers=2, beats=True, progress=False)
+    assert again.attrs["counts"]["analysed"] == 0
+    assert again.attrs["counts"]["reused"] == N_STUDY
+    pd.testing.assert_frame_equal(again, reference)
+
+
+def test_changed_config_is_analysed_again(study, tmp_path):
+    from eddyphone.config import Config
+
+    out = tmp_path / "out"
+    files = [str(study / "ward_a" / "rec_000.wav")]
+    first = run_batch(files, out, workers=1, progress=False)
+    changed = Config().with_section("quality", window_s=3.0)
+    second = run_batch(files, out, workers=1, config=changed, progress=False)
+    assert second.attrs["counts"]["analysed"] == 1
+    assert first.loc[0, "config_digest"] != second.loc[0, "config_digest"]
+    assert second.loc[0, "config_digest"] == changed.digest()
+
+
+def test_damaged_record_and_leftover_temporary_are_handled(study, tmp_path):
+    out = tmp_path / "out"
+    files = [str(study / "ward_a" / "rec_000.wav"), str(study / "ward_b" / "rec_001.wav")]
+    first = run_batch(files, out, workers=1, progress=False)
+    records = sorted(p for p in (out / "records").rglob("*.json"))
+    assert len(records) == 2
+    records[0].write_text('{"key": "trunc')  # a record damaged by something else
+    leftover = records[1].with_name(f".{records[1].name}.999.tmp")
+    leftover.write_text("half")
+    second = run_batch(files, out, workers=1, progress=False)
+    assert second.attrs["counts"] == {"recordings": 2, "analysed": 1, "reused": 1,
+                                      "failed": 0, "succeeded": 2}
+    assert not leftover.exists()
+    pd.testing.assert_frame_equal(first, second)
+
+
+def test_second_batch_into_the_same_folder_is_refused(study, tmp_path):
+    fcntl = pytest.importorskip("fcntl")
+    out = tmp_path / "out"
+    out.mkdir()
+    with (out / ".lock").open("a+") as fh:
+        fcntl.flock(fh, fcntl.LOCK_EX)
+        with pytest.raises(InputError, match="another batch"):
+            run_batch([study / "ward_a"], out, workers=1, progress=False)
+
+
+def test_bad_arguments():
+    with pytest.raises(ParameterError, match="fmt"):
+        run_batch(["x"], "y", fmt="xlsx")
+    with pytest.raises(ParameterError, match="workers"):
+        run_batch(["x"], "y", workers=0)
+
+
+def test_progress_line_shows_count_rate_and_time_left():
+    import io
+
+    stream = io.StringIO()
+    bar = Progress(4, stream)
+    bar.start -= 2.0  # two seconds ago
+    bar.update()
+    bar.update(failed=True)
+    text = stream.getvalue().splitlines()[-1]
+    assert "2/4" in text and "1 failed" in text
+    rate = float(text.split("rec/s")[0].split()[-1])
+    assert rate == pytest.approx(1.0, rel=0.05)  # 2 done in 2 s
+    assert text.endswith("00:02 left")  # 2 to go at 1 per second
+
+
+# --- a killed run, and a cluster ----------------------------------------------------
+
+def _finished_records(out: Path) -> dict[Path, tuple[int, int]]:
+    found = {}
+    for p in (out / "records").rglob("*.json"):
+        if not p.name.startswith(".") and not p.name.endswith(".analysis.json"):
+            st = p.stat()
+            found[p] = (st.st_ino, st.st_mtime_ns)
+    return found
+
+
+def test_killed_run_resumes_without_recomputing(tmp_path):
+    folder = tmp_path / "study"
+    write_study(folder, 10)
+    reference = run_batch([folder / "manifest.csv"], tmp_path / "ref", workers=2,
+                          beats=True, progress=False)
+    out = tmp_path / "killed"
+    cmd = [sys.executable, "-m", "eddyphone.cli", "batch", str(folder / "manifest.csv"),
+           "--out", str(out), "--workers", "2", "--beats", "--quiet"]
+    proc = subprocess.Popen(cmd, stdout=subprocess.DEVNULL, stderr=subprocess.PIPE,
+                            start_new_session=True)
+    deadline = time.monotonic() + 240
+    try:
+        while not out.exists() or len(_finished_records(out)) < 3:
+            assert proc.poll() is None, "the batch ended before it could be killed"
+            assert time.monotonic() < deadline
+            time.sleep(0.01)
+    finally:
+        os.killpg(proc.pid, signal.SIGKILL)  # the main process and its workers
+        proc.wait(timeout=30)
+    assert proc.returncode == -signal.SIGKILL
+    finished = _finished_records(out)
+    assert 3 <= len(finished) < 10
+    assert not (out / "features.parquet").exists()  # killed before consolidation
+    for p in finished:  # every record on disk is whole
+        assert json.loads(p.read_text())["status"] == "ok"
+
+    resumed = run_batch([folder / "manifest.csv"], out, workers=2, beats=True,
+                        progress=False)
+    counts = resumed.attrs["counts"]
+    assert counts["reused"] == len(finished)
+    assert counts["analysed"] == 10 - len(finished)  # nothing finished is computed twice
+    assert {p: v for p, v in _finished_records(out).items() if p in finished} == finished
+    pd.testing.assert_frame_equal(resumed, reference)
+    pd.testing.assert_frame_equal(pd.read_parquet(out / "beats.parquet"),
+                                  pd.read_parquet(tmp_path / "ref" / "beats.parquet"))
+
+
+def test_local_cluster_equals_local_run(study, reference, tmp_path):
+    distributed = pytest.importorskip("distributed")
+    with distributed.LocalCluster(n_workers=2, threads_per_worker=1, processes=True,
+                                  dashboard_address=None) as cluster:
+        on_cluster = run_batch([study / "manifest.csv"], tmp_path / "cluster",
+                               scheduler=cluster.scheduler_address, beats=True,
+                               progress=False)
+    assert on_cluster.attrs["counts"]["analysed"] == N_STUDY
+    pd.testing.assert_frame_equal(on_cluster, reference)
+    pd.testing.assert_frame_equal(on_cluster.attrs["beats"], reference.attrs["beats"])
+    run = json.loads((tmp_path / "cluster" / "run.json").read_text())
+    assert run["scheduler"] == cluster.scheduler_address
+
+
+def test_unreachable_scheduler_is_an_input_error(study, tmp_path):
+    pytest.importorskip("distributed")
+    with pytest.raises(InputError, match="scheduler"):
+        run_batch([study / "ward_a"], tmp_path / "out", scheduler="tcp://127.0.0.1:9",
+                  progress=False)
