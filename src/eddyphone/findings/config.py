@@ -69,13 +69,21 @@ class FindingsConfig:
     beat_excess_db : float
         A beat shows the murmur when its mean excess over the murmur's active bins
         reaches this many dB.
-    min_active_fraction : float
-        A murmur must fill at least this fraction of its window (transients such
-        as S3, clicks or S1/S2 tails are shorter).
+    min_murmur_s : float
+        A murmur's active run lasts at least this long.
+    min_sustained_s : float
+        ... and stays within 6 dB of its peak at least this long (transients such
+        as clicks or snaps are shorter).
+    min_low_murmur_s : float
+        The same for an excess confined below 150 Hz, where S3, S4 and the tails of
+        S1/S2 live (they last 30-50 ms, ``physiology.S3_DURATION_S``; smeared by the
+        32-ms frames they stay under about 80 ms).
     present_consistency, uncertain_consistency : float
         Fraction of usable beats that must show it for 'present' / 'uncertain'.
     min_beats : int
         Fewer usable beats than this: presence is 'uncertain'.
+    min_beats_present : int
+        A murmur is only called 'present' from at least this many usable beats.
     min_beat_confidence : float
         Beats with a lower segmentation confidence are not used.
     tonal_threshold : float
@@ -84,6 +92,9 @@ class FindingsConfig:
         Excess softer than this relative to S1/S2 is not called a murmur (about
         the softest sound a listener picks out beside the heart sounds; our own
         setting, 10 dB under the grade I edge).
+    min_present_level_db_re_heart_sounds : float
+        Softer murmurs are reported as 'uncertain', not 'present' (5 dB under the
+        grade I edge of ``GRADE_ANCHORS_DB``; our own setting).
     """
 
     bins_per_window: int = 12
@@ -93,13 +104,17 @@ class FindingsConfig:
     reference_percentile: float = 20.0
     excess_db: float = 4.0
     beat_excess_db: float = 3.0
-    min_active_fraction: float = 0.25
+    min_murmur_s: float = 0.06
+    min_sustained_s: float = 0.04
+    min_low_murmur_s: float = 0.1
     present_consistency: float = 0.6
     uncertain_consistency: float = 0.35
     min_beats: int = 3
+    min_beats_present: int = 5
     min_beat_confidence: float = 0.0
     tonal_threshold: float = 0.5
     min_level_db_re_heart_sounds: float = -30.0
+    min_present_level_db_re_heart_sounds: float = -25.0
 
     def __post_init__(self) -> None:
         if not 4 <= self.bins_per_window <= 64:

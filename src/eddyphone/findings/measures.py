@@ -23,6 +23,10 @@ import numpy as np
 
 from eddyphone.findings.config import ANALYSIS_BANDS_HZ, FindingsConfig
 
+#: Shortest window measured (s): shorter ones would be dominated by the 32-ms
+#: analysis frames reaching into S1 or S2.
+MIN_WINDOW_S = 0.05
+
 #: Window indices in :class:`Profiles` arrays.
 SYS, DIA = 0, 1
 
@@ -92,8 +96,8 @@ def beat_windows(beat, guard_s: float) -> tuple[tuple[float, float] | None,
     """Systolic and diastolic analysis windows of a beat, trimmed by ``guard_s``.
 
     The guard is at most 15 % of the window at each end (short systoles at fast
-    rates). A window shorter than 24 ms after trimming, or a missing diastole (no
-    next S1), gives None.
+    rates). A window shorter than :data:`MIN_WINDOW_S` after trimming, or a missing
+    diastole (no next S1), gives None.
     """
     def trim(a: float, b: float) -> tuple[float, float]:
         g = min(guard_s, 0.15 * max(b - a, 0.0))
@@ -102,7 +106,7 @@ def beat_windows(beat, guard_s: float) -> tuple[tuple[float, float] | None,
     sys = trim(beat.s1_offset_s, beat.s2_onset_s)
     nxt = getattr(beat, "next_s1_onset_s", None)
     dia = None if nxt is None else trim(beat.s2_offset_s, nxt)
-    ok = [w if w is not None and w[1] - w[0] >= 0.024 else None for w in (sys, dia)]
+    ok = [w if w is not None and w[1] - w[0] >= MIN_WINDOW_S else None for w in (sys, dia)]
     return ok[0], ok[1]
 
 

@@ -186,7 +186,7 @@ class _Candidate:
 def _candidates(M: np.ndarray, X: np.ndarray, dur_s: np.ndarray, cfg: FindingsConfig,
                 rejected: list[str]) -> list[_Candidate]:
     n_bins = M.shape[2]
-    n_min = max(2, int(np.ceil(cfg.min_active_fraction * n_bins)))
+    n_min = 2
     out = []
     for w in (SYS, DIA):
         act = M[w] >= cfg.excess_db
@@ -200,14 +200,19 @@ def _candidates(M: np.ndarray, X: np.ndarray, dur_s: np.ndarray, cfg: FindingsCo
         union = _fill_gaps(act[bands].any(axis=0))
         runs = _runs(union)
         s, e = max(runs, key=lambda r: (X[w, r[0]:r[1]].sum(), r[1] - r[0]))
-        if e - s < n_min:
+        bin_s = dur_s[w] / n_bins
+        # absolute durations, shortened in short windows (fast rates)
+        if e - s < 2 or (e - s) * bin_s < min(cfg.min_murmur_s, 0.4 * dur_s[w]):
             continue
         prof = X[w, s:e]
-        sustained = int(np.sum(prof >= 0.25 * prof.max()))
-        bin_s = dur_s[w] / n_bins
-        if sustained < max(2, n_min - 1) or sustained * bin_s < 0.05:
-            rejected.append(f"a short {PHASES[w]} transient ({sustained * bin_s * 1000:.0f} ms "
-                            "within 6 dB of its peak) is not counted as a murmur")
+        sustained_s = int(np.sum(prof >= 0.25 * prof.max())) * bin_s
+        low_only = max(bands) <= 1  # nothing above 150 Hz: like S3, S4 or a sound tail
+        need = (min(cfg.min_low_murmur_s, 0.5 * dur_s[w]) if low_only
+                else min(cfg.min_sustained_s, 0.25 * dur_s[w]))
+        if sustained_s < need:
+            rejected.append(f"a short {'low-pitched ' if low_only else ''}{PHASES[w]} "
+                            f"transient ({sustained_s * 1000:.0f} ms within 6 dB of its "
+                            "peak) is not counted as a murmur")
             continue
         out.append(_Candidate(w, tuple(bands), s, e, float(M[w][bands][:, s:e].max())))
     return out
@@ -274,10 +279,11 @@ def _roughness(spec: Spectrogram, prof: Profiles, use: np.ndarray, w: int, k0: i
         env = np.sqrt(spec.band_power[list(bands), ia:ib].sum(axis=0))
         # detrend with a ~50 ms moving average: what remains is the fast roughness
         m = max(3, int(round(0.05 / hop)))
+        if len(env) <= 2 * m:
+            continue
         slow = np.convolve(env, np.ones(m) / m, mode="same")
         fast = env - slow
-        vals.append(float(np.std(fast[m // 2: len(fast) - m // 2] if len(fast) > m else fast)
-                          / (np.mean(env) + 1e-30)))
+        vals.append(float(np.std(fast[m // 2: len(fast) - m // 2]) / (np.mean(env) + 1e-30)))
     if not vals:
         return 0.0
     return float(np.median(vals))
@@ -342,7 +348,16 @@ def find_murmurs(spec: Spectrogram, prof: Profiles, config: FindingsConfig) -> M
                            axis=2)
         qref = q.mean(axis=(1, 2)) if q.shape[2] else np.ones(n_beats)
         bdb = 10.0 * np.log10(np.maximum(act / np.maximum(qref, 1e-30), 1e-12))
-        shows = bdb >= cfg.beat_excess_db
+        # null: the same statistic over the same bins of the other window, where this
+        # murmur is not; a beat shows the murmur when it beats 90 % of that null
+        other = DIA if c.window == SYS else SYS
+        if not any(o.window == other for o in cands):
+            null_act = R[:, other][:, bands][:, :, c.k0:c.k1].mean(axis=(1, 2))
+            null = 10.0 * np.log10(np.maximum(null_act / np.maximum(qref, 1e-30), 1e-12))
+            thr = max(cfg.beat_excess_db, float(np.percentile(null, 90)))
+        else:
+            thr = cfg.beat_excess_db
+        shows = bdb >= thr
         consistency = float(np.mean(shows))
         name = PHASES[c.window]
         flags[name] = shows
@@ -386,7 +401,9 @@ def find_murmurs(spec: Spectrogram, prof: Profiles, config: FindingsConfig) -> M
                             "faint to call a murmur")
             continue
         presence = "present" if (consistency >= cfg.present_consistency
-                                 and n_beats >= cfg.min_beats) else "uncertain"
+                                 and n_beats >= cfg.min_beats_present
+                                 and level >= cfg.min_present_level_db_re_heart_sounds
+                                 ) else "uncertain"
         strength = float(np.clip((snr - cfg.excess_db) / 6.0 + 0.5, 0.0, 1.0))
         conf = float(np.clip(0.5 * consistency + 0.5 * strength, 0.0, 1.0))
         if presence == "uncertain":
