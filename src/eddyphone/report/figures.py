@@ -372,11 +372,9 @@ def ensemble_figure(analysis: Any):
         step = max(1, int(np.ceil(n / 12)))
         ax.set_yticks(rows[::step], [str(v) for v in labels[::step]])
         ax.set_title(f"{n} beats aligned on S1 onset", fontsize=9)
-        ax.text(1.0, 1.01, "red ticks: S2 onset of each beat; blank: after the next S1",
-                transform=ax.transAxes, ha="right", va="bottom", fontsize=7,
-                color=palette.MUTED)
-        _murmur_brackets(ax, analysis, beats)
-        bar = fig.colorbar(mesh, ax=[ax, prof], pad=0.01, aspect=30)
+        ax.text(1.0, 1.01, "blank: after the next S1", transform=ax.transAxes, ha="right",
+                va="bottom", fontsize=7, color=palette.MUTED)
+        bar = fig.colorbar(mesh, ax=[ax, prof], pad=0.045, aspect=30)
         bar.set_label("energy (dB re median S1 peak)")
         bar.ax.tick_params(labelsize=7)
         # median profile with its spread and the median state boundaries
@@ -396,11 +394,12 @@ def ensemble_figure(analysis: Any):
         prof.fill_between(t_ms, q1, q3, color=palette.STATE_COLOURS["S1"], alpha=0.25, lw=0,
                           label="middle half of beats")
         prof.plot(t_ms, med, color=palette.INK, lw=1.1, label="median beat")
-        prof.set_ylim(-ENERGY_RANGE_DB - 5, 8)
+        prof.set_ylim(-ENERGY_RANGE_DB - 3 - 3 * max(1, len(_murmurs(analysis))), 8)
         prof.set_ylabel("energy (dB)")
         prof.set_xlabel("time from S1 onset (ms)")
         prof.set_xlim(t_ms[0], t_ms[-1])
         prof.legend(loc="lower right", ncol=2)
+        _murmur_marks(ax, prof, analysis, beats)
         prof.grid(axis="y")
     return fig
 
@@ -421,24 +420,59 @@ def _median_bounds(beats: Sequence) -> list[tuple[str, float, float]]:
     return out
 
 
-def _murmur_brackets(ax, analysis: Any, beats: Sequence) -> None:
-    """Mark, above the image, the median window of each murmur."""
+def _murmur_marks(ax, prof, analysis: Any, beats: Sequence) -> None:
+    """Mark the median window of each murmur under the profile, and, beside the image,
+    the beats in which the findings stage heard it."""
     bounds = {k: (a, b) for k, a, b in _median_bounds(beats)}
-    for m in _murmurs(analysis):
+    murmurs = _murmurs(analysis)
+    for k, m in enumerate(murmurs):
         if m.phase == "systolic":
             a, b = bounds["S1"][1], bounds["S2"][0]
         elif m.phase == "diastolic" and "diastole" in bounds:
             a, b = bounds["diastole"]
+        elif "diastole" in bounds:
+            a, b = 0.0, bounds["diastole"][1]
         else:
             continue
-        ax.annotate("", xy=(1000 * a, -0.02), xytext=(1000 * b, -0.02),
-                    xycoords=("data", "axes fraction"), textcoords=("data", "axes fraction"),
-                    arrowprops={"arrowstyle": "|-|", "color": palette.ACCENT, "lw": 1.2,
-                                "shrinkA": 0, "shrinkB": 0, "mutation_scale": 3},
-                    annotation_clip=False)
-        ax.text(1000 * (a + b) / 2, -0.035, f"{m.id}: {m.phase} murmur window",
-                transform=ax.get_xaxis_transform(), ha="center", va="top", fontsize=7,
-                color=palette.ACCENT, clip_on=False)
+        y = -ENERGY_RANGE_DB - 2 - 3 * k
+        prof.plot([1000 * a, 1000 * b], [y, y], color=palette.ACCENT, lw=3.0,
+                  solid_capstyle="butt")
+        prof.text(500 * (a + b), y + 1.2, f"{m.id} window", color=palette.ACCENT, fontsize=7,
+                  ha="center", va="bottom")
+    measures = {bm.beat: bm for bm in getattr(analysis.findings, "beat_measures", ())} \
+        if analysis.findings is not None else {}
+    if not measures:
+        return
+    side = ax.inset_axes([1.006, 0.0, 0.022, 1.0])
+    side.set_xlim(0, 1)
+    side.set_ylim(len(beats) - 0.5, -0.5)
+    side.set_axis_off()
+    phases = {m.phase for m in murmurs} or {"systolic"}
+    for row, b in enumerate(beats):
+        bm = measures.get(b.index)
+        if bm is None:
+            continue
+        heard = ("systolic" in phases and bm.sys_murmur) or \
+                ("diastolic" in phases and bm.dia_murmur) or \
+                ("continuous" in phases and bm.sys_murmur and bm.dia_murmur)
+        if not bm.usable:
+            side.plot(0.5, row, marker="x", ms=3.5, color=palette.MUTED, mew=0.8)
+        else:
+            side.plot(0.5, row, marker="s", ms=3.8, mew=0.9, color=palette.ACCENT,
+                      mfc=palette.ACCENT if heard else palette.PAPER)
+    side.text(0.5, -0.6, "murmur", rotation=90, ha="center", va="bottom", fontsize=6.5,
+              color=palette.ACCENT, transform=side.transData)
+    from matplotlib.lines import Line2D
+
+    keys = [Line2D([], [], ls="none", marker="|", ms=7, mew=1.8,
+                   color=palette.STATE_COLOURS["S2"], label="S2 onset"),
+            Line2D([], [], ls="none", marker="s", ms=4.5, color=palette.ACCENT,
+                   label="murmur heard in the beat"),
+            Line2D([], [], ls="none", marker="s", ms=4.5, color=palette.ACCENT,
+                   mfc=palette.PAPER, label="not heard"),
+            Line2D([], [], ls="none", marker="x", ms=4.5, color=palette.MUTED,
+                   label="beat not usable")]
+    ax.figure.legend(handles=keys, loc="outside lower right", ncol=4, handletextpad=0.3)
 
 
 # --- murmur profile -------------------------------------------------------------------
@@ -503,20 +537,23 @@ def murmur_figure(analysis: Any, murmur: Any):
             for third in (100 / 3, 200 / 3):
                 ax.axvline(third, color=palette.GRID, lw=0.8, zorder=0)
             for k, word in enumerate(("early", "mid", "late")):
-                ax.text((k + 0.5) * 100 / 3, -0.2, word, ha="center", va="top", fontsize=7,
-                        color=palette.MUTED, transform=ax.get_xaxis_transform())
+                ax.text((k + 0.5) * 100 / 3, 1.005, word, ha="center", va="bottom",
+                        fontsize=7, color=palette.MUTED, transform=ax.get_xaxis_transform())
             ax.set_ylim(0, 1.15)
             ax.set_xlim(0, 100)
         else:
             _note(ax, "no profile available")
         start, end = {"systolic": ("S1 end", "S2 start"), "diastolic": ("S2 end", "next S1"),
                       "continuous": ("S1", "next S1")}.get(murmur.phase, ("start", "end"))
-        ax.set_xlabel(f"position in window, % ({start} → {end})", labelpad=12)
+        ax.set_xlabel(f"position in window, % ({start} → {end})")
         ax.set_ylabel("envelope (relative to its peak)")
-        words = [getattr(murmur, "timing", None), murmur.phase, getattr(murmur, "shape", None)]
-        ax.set_title(f"{murmur.id}: " + " ".join(w for w in words if w), fontsize=9)
+        ax.set_title(f"{murmur.id}: {timing_phase(murmur)} {getattr(murmur, 'shape', '')}",
+                     fontsize=9, pad=12)
         if mean_ms:
-            ax.text(0.99, 0.97, f"mean window {mean_ms:.0f} ms\n{len(windows)} beats",
+            used = getattr(murmur, "beats_used", None)
+            count = (f"in {murmur.beats_with_murmur} of {used} beats" if used
+                     else f"{len(windows)} beats")
+            ax.text(0.99, 0.97, f"mean window {mean_ms:.0f} ms\n{count}",
                     transform=ax.transAxes, ha="right", va="top", fontsize=7,
                     color=palette.MUTED)
         _murmur_spectrum(sp, x, fs, analysis, murmur, windows)
@@ -531,28 +568,29 @@ def _murmur_spectrum(ax, x, fs, analysis, murmur, windows) -> None:
     keep = (f >= SPECTRUM_RANGE_HZ[0]) & (f <= SPECTRUM_RANGE_HZ[1])
     ref = float(p[keep].max())
     ax.plot(f[keep], 10 * np.log10(p[keep] / ref + 1e-20), color=palette.ACCENT, lw=1.5,
-            label=f"{murmur.phase} windows")
+            label=murmur.phase)
     other = {"systolic": "diastolic", "diastolic": "systolic"}.get(murmur.phase)
     if other:
         of, op = window_spectrum(x, fs, murmur_windows(analysis, other))
         if of.size:
             k2 = (of >= SPECTRUM_RANGE_HZ[0]) & (of <= SPECTRUM_RANGE_HZ[1])
             ax.plot(of[k2], 10 * np.log10(op[k2] / ref + 1e-20), color=palette.MUTED, lw=1.0,
-                    ls=(0, (4, 2)), label=f"{other} windows (reference)")
+                    ls=(0, (4, 2)), label=f"{other} (reference)")
     marks = (("dominant_frequency_hz", "dominant", palette.INK),
              ("centroid_hz", "centroid", palette.STATE_COLOURS["S1"]))
     for attr, word, colour in marks:
         v = getattr(murmur, attr, None)
         if v:
             ax.axvline(v, color=colour, lw=0.9, ls=(0, (3, 2)))
-            ax.text(v, 1.0, f" {word} {v:.0f} Hz", transform=ax.get_xaxis_transform(),
-                    rotation=90, ha="right", va="top", fontsize=7, color=colour)
+            ax.text(v, 0.03, f" {word} {v:.0f} Hz ", transform=ax.get_xaxis_transform(),
+                    rotation=90, ha="right", va="bottom", fontsize=7, color=colour,
+                    bbox={"facecolor": palette.PAPER, "edgecolor": "none", "pad": 0.5})
     ax.set_xscale("log")
     ticks = [25, 50, 100, 200, 400, 800]
     ax.set_xticks(ticks, [str(v) for v in ticks])
     ax.minorticks_off()
     ax.set_xlim(*SPECTRUM_RANGE_HZ)
-    ax.set_ylim(-45, 5)
+    ax.set_ylim(-58, 5)
     ax.set_xlabel("frequency (Hz)")
     ax.set_ylabel("power (dB re peak)")
     pitch = getattr(murmur, "pitch", None)
@@ -563,26 +601,27 @@ def _murmur_spectrum(ax, x, fs, analysis, murmur, windows) -> None:
 
 # --- mechanisms -----------------------------------------------------------------------
 
-def _mechanism_groups(analysis: Any) -> list[tuple[str, list]]:
-    ex = analysis.explanation
-    if ex is None:
+def _mechanism_groups(explanation: Any, *, overall_only: bool = False) -> list[tuple[str, list]]:
+    if explanation is None:
         return []
     groups = []
-    per = getattr(ex, "per_finding", {}) or {}
+    per = {} if overall_only else (getattr(explanation, "per_finding", {}) or {})
     for fid, mechs in per.items():
         if mechs:
             groups.append((str(fid), sorted(mechs, key=lambda m: m.rank)))
-    if not groups and getattr(ex, "overall", ()):
-        groups.append(("overall", sorted(ex.overall, key=lambda m: m.rank)))
+    if not groups and getattr(explanation, "overall", ()):
+        groups.append(("overall", sorted(explanation.overall, key=lambda m: m.rank)))
     return groups
 
 
-def mechanism_figure(analysis: Any):
-    """Ranked scores of the candidate mechanisms for each finding (None without any)."""
-    groups = _mechanism_groups(analysis)
+def mechanism_chart(explanation: Any, titles: dict[str, str] | None = None, *,
+                    overall_only: bool = False):
+    """Bars of mechanism scores, one panel per finding (or the overall ranking);
+    None when there is nothing to show."""
+    groups = _mechanism_groups(explanation, overall_only=overall_only)
     if not groups:
         return None
-    titles = _finding_titles(analysis)
+    titles = titles or {}
     with styled():
         rows = sum(len(m) for _, m in groups)
         fig = _figure(0.75 + 0.32 * rows + 0.35 * len(groups))
@@ -593,15 +632,20 @@ def mechanism_figure(analysis: Any):
             scores = [float(m.score) for m in mechs]
             ax.barh(y, scores, height=0.62, color=[palette.mechanism_colour(m.name)
                                                     for m in mechs])
-            for yy, _m, s in zip(y, mechs, scores):
+            for yy, s in zip(y, scores):
                 ax.text(s + 0.01, yy, f"{s:.2f}", va="center", ha="left", fontsize=7.5)
             ax.set_yticks(y, [_wrap(m.label, 34) for m in mechs])
             ax.set_xlim(0, 1.08)
-            ax.set_title(titles.get(fid, fid), fontsize=9)
+            ax.set_title(_wrap(titles.get(fid, fid), 90), fontsize=9)
             ax.grid(axis="x")
             ax.set_axisbelow(True)
         axes[-1].set_xlabel("score (0 = not supported, 1 = fully supported)")
     return fig
+
+
+def mechanism_figure(analysis: Any):
+    """Ranked scores of the candidate mechanisms for each finding (None without any)."""
+    return mechanism_chart(analysis.explanation, _finding_titles(analysis))
 
 
 def _finding_titles(analysis: Any) -> dict[str, str]:
@@ -610,11 +654,18 @@ def _finding_titles(analysis: Any) -> dict[str, str]:
     if f is None:
         return out
     for m in getattr(f, "murmurs", ()):
-        words = [getattr(m, "timing", None), m.phase, "murmur"]
-        out[m.id] = f"{m.id}: " + " ".join(w for w in words if w)
+        out[m.id] = f"{m.id}: {timing_phase(m)} murmur"
     for e in getattr(f, "extra_sounds", ()):
         out[e.id] = f"{e.id}: {e.kind}"
     return out
+
+
+def timing_phase(murmur: Any) -> str:
+    """Timing and phase in one word as clinicians write them: 'holosystolic', 'mid-diastolic'."""
+    timing, phase = getattr(murmur, "timing", None), murmur.phase
+    if phase == "continuous" or not timing:
+        return phase
+    return f"holo{phase}" if timing == "holo" else f"{timing}-{phase}"
 
 
 def _wrap(text: str, width: int) -> str:

@@ -86,7 +86,9 @@ table {{ border-collapse: collapse; width: 100%; font-size: 13px; margin: 6px 0 
 th, td {{ text-align:left; padding: 4px 8px; border-bottom: 1px solid var(--grid);
   vertical-align: top; }}
 th {{ color: var(--muted); font-weight: 600; background: #f3f1ea; }}
-td.num, th.num {{ text-align:right; font-variant-numeric: tabular-nums; }}
+td.num, th.num {{ text-align:right; font-variant-numeric: tabular-nums; white-space:nowrap; }}
+details.more {{ margin: 8px 0 14px; }}
+details.more > summary {{ margin-bottom: 6px; }}
 .murmur {{ border-left: 5px solid var(--accent); padding: 2px 0 2px 14px; margin: 14px 0; }}
 .mech {{ background:#fff; border:1px solid var(--grid); border-radius:4px; padding:12px 16px;
   margin: 10px 0; }}
@@ -218,11 +220,19 @@ def _mechanisms(analysis: Any, figures: Mapping[str, bytes]) -> str:
             titles[m.id] = f"{m.id}: {m.describe()}"
         for e in analysis.findings.extra_sounds:
             titles[e.id] = f"{e.id}: {e.describe()}"
-    current = None
-    for b in text.mechanism_blocks(analysis):
+    current, open_more = None, False
+    blocks = text.mechanism_blocks(analysis)
+    for i, b in enumerate(blocks):
         if b.finding != current:
-            current = b.finding
+            if current is not None and open_more:
+                parts.append("</details>")
+            current, open_more = b.finding, False
             parts.append(f"<h3>{escape(titles.get(b.finding, b.finding))}</h3>")
+        elif not open_more:
+            rest = sum(1 for c in blocks[i:] if c.finding == b.finding)
+            parts.append(f'<details class="more"><summary>The other {rest} candidates, '
+                         "with their numbers</summary>")
+            open_more = True
         colour = palette.mechanism_colour(b.name)
         body = [f'<div class="mech" data-mechanism="{escape(b.name)}"><header>'
                 f'<span class="rank" style="background:{colour}">{b.rank}</span>'
@@ -245,6 +255,8 @@ def _mechanisms(analysis: Any, figures: Mapping[str, bytes]) -> str:
             body.append("<h4>Cautions</h4>" + _ul(b.cautions))
         body.append("</div>")
         parts.append("".join(body))
+    if current is not None and open_more:
+        parts.append("</details>")
     assumed = text.explanation_assumptions(analysis)
     if assumed:
         parts.append("<h3>Assumptions for the whole recording</h3>" + _ul(assumed))

@@ -172,6 +172,20 @@ def _number_text(value: Any, unit: str) -> str:
     return f"{text} {unit}".strip() if unit and unit != "1" else text
 
 
+_UNIT_SUFFIXES = ("_l_min", "_m3_s", "_m_s", "_mmhg", "_pa_s", "_mm", "_ml", "_hz", "_ms",
+                  "_m", "_s")
+
+
+def quantity_name(key: str) -> str:
+    """A readable name for a number's key: 'peak_flow_l_min' -> 'peak flow'."""
+    name = str(key)
+    for suffix in _UNIT_SUFFIXES:
+        if name.endswith(suffix) and len(name) > len(suffix):
+            name = name[: -len(suffix)]
+            break
+    return name.replace("_", " ")
+
+
 def mechanism_blocks(analysis: Any) -> list[MechanismBlock]:
     """Every ranked mechanism of every finding (the whole-recording ranking when no
     finding has its own)."""
@@ -189,11 +203,11 @@ def mechanism_blocks(analysis: Any) -> list[MechanismBlock]:
             numbers = []
             for name, spec in (getattr(m, "numbers", {}) or {}).items():
                 if isinstance(spec, Mapping):
-                    numbers.append((str(name), _number_text(spec.get("value"),
+                    numbers.append((quantity_name(name), _number_text(spec.get("value"),
                                                             str(spec.get("unit", "") or "")),
                                     str(spec.get("meaning", ""))))
                 else:
-                    numbers.append((str(name), _number_text(spec, ""), ""))
+                    numbers.append((quantity_name(name), _number_text(spec, ""), ""))
             out.append(MechanismBlock(
                 finding=fid, rank=int(m.rank), name=m.name, label=m.label,
                 score=float(m.score), physics=m.physics, evidence=tuple(m.evidence),
