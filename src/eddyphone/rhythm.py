@@ -203,6 +203,48 @@ def heart_rate_autocorrelation(env: np.ndarray, feature_fs: float, *, min_bpm: f
     return HeartRateEstimate(float(hr), sys_s, conf)
 
 
+def period_candidates(env: np.ndarray, feature_fs: float, *, min_bpm: float = 40.0,
+                      max_bpm: float = 200.0, max_candidates: int = 5) -> list[HeartRateEstimate]:
+    """Plausible heart rates from the autocorrelation, most likely first.
+
+    The first candidate is :func:`heart_rate_autocorrelation`'s answer; then the
+    other autocorrelation peaks in range at least 0.3 high (highest first), then
+    half and double the first rate where a peak lies there. Rates within 8 % of an
+    earlier candidate are dropped. A decoder picks among them by how well each
+    explains the recording.
+
+    Returns
+    -------
+    list of HeartRateEstimate
+    """
+    first = heart_rate_autocorrelation(env, feature_fs, min_bpm=min_bpm, max_bpm=max_bpm)
+    out = [first]
+    lo = max(2, int(np.floor(60.0 / max_bpm * feature_fs)))
+    hi = int(np.ceil(60.0 / min_bpm * feature_fs))
+    ac = envelope_autocorrelation(env, max_lag=2 * hi + 4)
+    peaks = _local_maxima(ac, lo - 1, min(hi + 1, len(ac) - 1))
+    peaks = peaks[(peaks >= lo) & (peaks <= hi)]
+    if len(peaks) == 0:
+        return out
+    lag1 = 60.0 * feature_fs / first.heart_rate_bpm
+    lags = [_peak_lag(ac, int(k)) for k in peaks[np.argsort(-ac[peaks])] if ac[k] >= 0.3]
+    for factor in (0.5, 2.0):
+        target = lag1 * factor
+        near = peaks[np.abs(peaks - target) <= max(2.0, 0.1 * target)]
+        if len(near):
+            lags.append(_peak_lag(ac, int(near[np.argmax(ac[near])])))
+    for lag in lags:
+        hr = 60.0 * feature_fs / lag
+        if any(abs(hr - c.heart_rate_bpm) <= 0.08 * c.heart_rate_bpm for c in out):
+            continue
+        sys_reg = systolic_interval_s(float(np.clip(hr, 20.0, 250.0)))[0]
+        out.append(HeartRateEstimate(float(hr), _systole_from_ac(ac, feature_fs, lag, sys_reg),
+                                     float(np.clip(_interp(ac, lag), 0.0, 1.0))))
+        if len(out) >= max_candidates:
+            break
+    return out
+
+
 def _systole_from_ac(ac: np.ndarray, feature_fs: float, period: float, sys_reg_s: float) -> float:
     """Cross peak (or its mirror) nearest the regression, else the regression value."""
     lo = max(1, int(0.08 * feature_fs))

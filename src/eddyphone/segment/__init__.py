@@ -25,12 +25,12 @@ from eddyphone.rhythm import (
     IRREGULAR_RR_CV,
     HeartRateEstimate,
     Rhythm,
-    heart_rate_autocorrelation,
+    period_candidates,
     rhythm_from_beats,
 )
 from eddyphone.segment.beats import Beat, Segment, beats_from_segments
 from eddyphone.segment.durations import STATES, duration_tables, state_durations
-from eddyphone.segment.emissions import EmissionModel, frame_features
+from eddyphone.segment.emissions import FEATURE_NAMES, EmissionModel, frame_features
 from eddyphone.segment.hsmm import viterbi_cyclic
 
 __all__ = ["Beat", "Segment", "SegmentConfig", "Segmentation", "segment"]
@@ -192,31 +192,146 @@ def _tables(hr: float, sys_s: float, rr_spread_s: float, ffs: float, cfg: Segmen
     return duration_tables(laws, ffs, floor_weight=cfg.duration_floor_weight)
 
 
-def _decode_chunk(loglik: np.ndarray, homo: np.ndarray, ffs: float,
-                  cfg: SegmentConfig) -> _Decoded:
-    est = heart_rate_autocorrelation(homo, ffs, min_bpm=cfg.min_bpm, max_bpm=cfg.max_bpm)
-    ld, ls = _tables(est.heart_rate_bpm, est.systolic_interval_s, 0.0, ffs, cfg)
-    starts, ends, states, _ = viterbi_cyclic(loglik, ld, ls)
-    # Second pass with the rate, systolic interval and RR spread of the first.
+def _intervals(starts: np.ndarray, states: np.ndarray, ffs: float
+               ) -> tuple[np.ndarray, np.ndarray]:
+    """S1-onset to S2-onset and S2-onset to next S1-onset intervals, in s."""
     s1 = starts[(states == 0) & (starts > 0)]
     s2 = starts[(states == 2) & (starts > 0)]
-    if len(s1) >= 3:
-        rr = np.diff(s1) / ffs
-        rr_mean = float(np.mean(rr))
-        hr = 60.0 / rr_mean
-        cv = float(np.std(rr) / rr_mean)
-        pair = np.searchsorted(s2, s1)
-        ok = pair < len(s2)
-        sys = (s2[pair[ok]] - s1[ok]) / ffs
-        sys = sys[sys < 0.8 * rr_mean]
-        sys_s = float(np.median(sys)) if len(sys) else est.systolic_interval_s
-        if (abs(hr - est.heart_rate_bpm) > cfg.refine_hr_change * est.heart_rate_bpm
-                or cv > 0.5 * cfg.irregular_rr_cv
-                or abs(sys_s - est.systolic_interval_s) > 0.04):
-            hr = float(np.clip(hr, cfg.min_bpm * 0.9, cfg.max_bpm * 1.1))
-            spread = float(np.std(rr)) if cv > 0.5 * cfg.irregular_rr_cv else 0.0
-            ld, ls = _tables(hr, sys_s, spread, ffs, cfg)
-            starts, ends, states, _ = viterbi_cyclic(loglik, ld, ls)
+    if len(s1) < 2 or len(s2) < 2:
+        return np.array([]), np.array([])
+    k = np.searchsorted(s2, s1)
+    ok = k < len(s2)
+    sys = (s2[k[ok]] - s1[ok]) / ffs
+    j = np.searchsorted(s1, s2)
+    ok2 = j < len(s1)
+    dia = (s1[j[ok2]] - s2[ok2]) / ffs
+    return sys, dia
+
+
+def _swap_evidence(starts: np.ndarray, ends: np.ndarray, states: np.ndarray,
+                   tilt: np.ndarray, ffs: float) -> float:
+    """Evidence (> 0) that the decoded S1/S2 labels are the right way round.
+
+    Three cues, each clipped to +/-3: timing (systole shorter than diastole by the
+    margin the Weissler regression expects at this rate), stability (the systolic
+    interval varies less than the diastolic one when the rhythm varies) and pitch
+    (S2 is higher-pitched than S1, common practice).
+    """
+    sys, dia = _intervals(starts, states, ffs)
+    if len(sys) < 2 or len(dia) < 2:
+        return 0.0
+    sys_m, dia_m = float(np.median(sys)), float(np.median(dia))
+    hr = 60.0 / (sys_m + dia_m)
+    from eddyphone.physiology import systolic_interval_s
+
+    sys_reg = systolic_interval_s(float(np.clip(hr, 20.0, 250.0)))[0]
+    expected = (60.0 / hr - sys_reg) - sys_reg
+    timing = 0.0
+    if abs(expected) >= 0.05:
+        timing = float(np.clip((dia_m - sys_m) / 0.08, -3, 3)) * np.sign(expected)
+    stability = 0.0
+    sd_s, sd_d = float(np.std(sys)), float(np.std(dia))
+    if len(sys) >= 4 and max(sd_s, sd_d) > 0.015:
+        stability = float(np.clip(np.log((sd_d + 0.005) / (sd_s + 0.005)) / 0.5, -3, 3))
+    m1 = np.concatenate([tilt[s:e] for s, e, k in zip(starts, ends, states, strict=True)
+                         if k == 0] or [np.zeros(0)])
+    m2 = np.concatenate([tilt[s:e] for s, e, k in zip(starts, ends, states, strict=True)
+                         if k == 2] or [np.zeros(0)])
+    pitch = 0.0
+    if len(m1) and len(m2):
+        pitch = float(np.clip((np.mean(m2) - np.mean(m1)) / 0.3, -3, 3))
+    return timing + stability + pitch
+
+
+def _refine(loglik, starts, states, est: HeartRateEstimate, ffs: float, cfg: SegmentConfig):
+    """Second pass with the rate, systolic interval and RR spread of the first."""
+    s1 = starts[(states == 0) & (starts > 0)]
+    if len(s1) < 3:
+        return None
+    rr = np.diff(s1) / ffs
+    rr_mean = float(np.mean(rr))
+    hr = 60.0 / rr_mean
+    cv = float(np.std(rr) / rr_mean)
+    sys, _ = _intervals(starts, states, ffs)
+    sys = sys[sys < 0.8 * rr_mean]
+    sys_s = float(np.median(sys)) if len(sys) else est.systolic_interval_s
+    if (abs(hr - est.heart_rate_bpm) <= cfg.refine_hr_change * est.heart_rate_bpm
+            and cv <= 0.5 * cfg.irregular_rr_cv
+            and abs(sys_s - est.systolic_interval_s) <= 0.04):
+        return None
+    hr = float(np.clip(hr, cfg.min_bpm * 0.9, cfg.max_bpm * 1.1))
+    spread = float(np.std(rr)) if cv > 0.5 * cfg.irregular_rr_cv else 0.0
+    ld, ls = _tables(hr, sys_s, spread, ffs, cfg)
+    return viterbi_cyclic(loglik, ld, ls)
+
+
+#: Length of the excerpt on which competing heart rates are compared, s.
+_PROBE_S = 8.0
+
+
+def _missed_fraction(starts: np.ndarray, ends: np.ndarray, states: np.ndarray,
+                     homo_rel: np.ndarray) -> float:
+    """Fraction of systoles and diastoles holding a peak nearly as loud as S1/S2.
+
+    A rate that is half the true one leaves a whole S1-S2 pair inside each of its
+    diastoles; this measures that (``homo_rel`` is the relative log envelope).
+    """
+    peaks, gaps = [], []
+    for s, e, k in zip(starts, ends, states, strict=True):
+        if e - s < 1:
+            continue
+        if k in (0, 2):
+            peaks.append(float(np.max(homo_rel[s:e])))
+        elif e - s >= 4:
+            gaps.append(float(np.max(homo_rel[s + 1: e - 1])))
+    if len(peaks) < 2 or not gaps:
+        return 0.0
+    level = float(np.median(peaks))
+    return float(np.mean(np.asarray(gaps) > 0.6 * level))
+
+
+def _hypotheses(cands: list[HeartRateEstimate], sound: np.ndarray, ffs: float,
+                cfg: SegmentConfig) -> list[tuple[HeartRateEstimate, float]]:
+    """(estimate, RR spread) pairs to try: each candidate regular, the first also irregular."""
+    out = [(c, 0.0) for c in cands]
+    first = cands[0]
+    # An irregular rhythm smears the autocorrelation; add a broad-diastole hypothesis
+    # at the rate given by counting the loud events (two per beat).
+    loud = sound > 0.5
+    onsets = np.count_nonzero(loud[1:] & ~loud[:-1])
+    dur = len(sound) / ffs
+    if onsets >= 4 and dur > 0:
+        hr_count = float(np.clip(30.0 * onsets / dur, cfg.min_bpm, cfg.max_bpm))
+        from eddyphone.physiology import systolic_interval_s
+
+        out.append((HeartRateEstimate(hr_count, systolic_interval_s(hr_count)[0], 0.0),
+                    0.2 * 60.0 / hr_count))
+    out.append((first, 0.2 * 60.0 / first.heart_rate_bpm))
+    return out
+
+
+def _decode_chunk(loglik: np.ndarray, homo: np.ndarray, tilt: np.ndarray, sound: np.ndarray,
+                  homo_rel: np.ndarray, ffs: float, cfg: SegmentConfig) -> _Decoded:
+    cands = period_candidates(homo, ffs, min_bpm=cfg.min_bpm, max_bpm=cfg.max_bpm)
+    hyps = _hypotheses(cands, sound, ffs, cfg)
+    n_probe = min(len(loglik), int(_PROBE_S * ffs))
+    best_key, est, spread = None, cands[0], 0.0
+    for c, sp in hyps:
+        # The model's own score decides, except that a rate leaving loud sounds
+        # inside its silences (half the true rate) loses to one that does not.
+        ld, ls = _tables(c.heart_rate_bpm, c.systolic_interval_s, sp, ffs, cfg)
+        st, en, k, score = viterbi_cyclic(loglik[:n_probe], ld, ls)
+        key = (-round(_missed_fraction(st, en, k, homo_rel[:n_probe]) / 0.2), score)
+        if best_key is None or key > best_key:
+            best_key, est, spread = key, c, sp
+    ld, ls = _tables(est.heart_rate_bpm, est.systolic_interval_s, spread, ffs, cfg)
+    starts, ends, states, _ = viterbi_cyclic(loglik, ld, ls)
+    again = _refine(loglik, starts, states, est, ffs, cfg)
+    if again is not None:
+        starts, ends, states, _ = again
+    if _swap_evidence(starts, ends, states, tilt, ffs) < 0:
+        # S1 <-> S2 and systole <-> diastole: the same boundaries, labels mirrored.
+        states = (states + 2) % 4
     return _Decoded(starts, ends, states, est)
 
 
@@ -280,8 +395,10 @@ def _decode_run(feat: np.ndarray, homo: np.ndarray, model: EmissionModel, ffs: f
         # Re-centre the relative features on this chunk (gain drift in long records).
         f = (f - np.median(f, axis=0)) if (b - a) > chunk else f
         loglik = model.log_likelihood(f)
-        posts.append((lo, hi, np.exp(loglik + model.log_prior)))
-        dec = _decode_chunk(loglik, homo[lo:hi], ffs, cfg)
+        post = np.exp(loglik + model.log_prior)
+        posts.append((lo, hi, post))
+        dec = _decode_chunk(loglik, homo[lo:hi], f[:, FEATURE_NAMES.index("pitch_tilt")],
+                            post[:, 0] + post[:, 2], f[:, 0], ffs, cfg)
         estimates.append(dec.estimate)
         segs = [(int(s) + lo, int(e) + lo, int(k))
                 for s, e, k in zip(dec.starts, dec.ends, dec.states, strict=True)]

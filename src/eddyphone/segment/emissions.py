@@ -34,7 +34,7 @@ from eddyphone.envelope import Envelopes
 from eddyphone.errors import InputError
 
 FEATURE_NAMES = ("log_homomorphic", "log_hilbert", "shannon", "log_low_band",
-                 "log_mid_band", "slope_homomorphic")
+                 "log_mid_band", "slope_homomorphic", "pitch_tilt")
 #: File (in ``eddyphone/data``) of the shipped emission model.
 DEFAULT_MODEL = "segmenter_emissions.json"
 _TINY = 1e-12
@@ -64,7 +64,14 @@ def frame_features(env: Envelopes) -> np.ndarray:
     rel = (raw - med) / np.where(spread > 1e-9, spread, 1.0)
     homo = rel[:, 0]
     slope = np.gradient(homo) if len(homo) > 1 else np.zeros_like(homo)
-    return np.concatenate([rel, slope[:, None]], axis=1)
+    # Mid- over low-band level, relative to its median over the loud frames: the
+    # loud frames hold both S1 and S2, so the higher-pitched sound (S2, common
+    # practice) lands above zero and the lower-pitched below, whatever the device.
+    tilt = raw[:, 4] - raw[:, 3]
+    loud = homo > 0.5
+    centre = np.median(tilt[loud]) if np.count_nonzero(loud) >= 5 else np.median(tilt)
+    tilt = np.clip(tilt - centre, -3.0, 3.0)
+    return np.concatenate([rel, slope[:, None], tilt[:, None]], axis=1)
 
 
 def _expand(features: np.ndarray) -> np.ndarray:
