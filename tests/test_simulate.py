@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import csv
 import json
+from pathlib import Path
 
 import numpy as np
 import pytest
@@ -402,3 +403,22 @@ def test_bad_specs_raise():
         MurmurSpec("high_flow", diameter_m=0.02, velocity_m_s=2.0, hematocrit=45)
     with pytest.raises(ParameterError, match="exactly one"):
         MurmurSpec("high_flow", diameter_m=0.02, velocity_m_s=None, flow_m3_s=None)
+
+
+def test_sample_audio_is_the_demo_set(tmp_path):
+    # the committed demo folder is what the generator makes now (regenerate with
+    # `eddyphone simulate --out sample_audio --overwrite` after changing the simulator)
+    from eddyphone.simulate import write_demo
+
+    sample = Path(__file__).resolve().parents[1] / "sample_audio"
+    write_demo(tmp_path, ["01_resting_adult", "08_diastolic_rumble"])
+    for cid in ("01_resting_adult", "08_diastolic_rumble"):
+        name = f"{cid}.truth.csv"
+        assert (sample / name).read_text() == (tmp_path / name).read_text()
+        a, _ = sf.read(sample / f"{cid}.wav", dtype="int16")
+        b, _ = sf.read(tmp_path / f"{cid}.wav", dtype="int16")
+        assert a.shape == b.shape
+        # allow last-bit differences from another FFT library build
+        assert np.max(np.abs(a.astype(int) - b.astype(int))) <= 2
+    assert len(list(sample.glob("*.wav"))) == len(demo_specs())
+    assert "synthetic" in (sample / "README.md").read_text().lower()

@@ -15,7 +15,7 @@ def test_demo_cases_written(tmp_path, capsys):
                  "07_fast_irregular"]) == 0
     names = sorted(p.name for p in out.iterdir())
     assert "01_resting_adult.wav" in names and "07_fast_irregular.truth.json" in names
-    assert "index.csv" in names and len(names) == 7
+    assert "index.csv" in names and "README.md" in names and len(names) == 8
     assert "wrote 2 recording(s)" in capsys.readouterr().out
 
 

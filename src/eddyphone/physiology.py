@@ -6,7 +6,7 @@ from the literature rather than checked against the paper while writing.
 Public functions
 ----------------
 systolic_interval_s
-    S1-onset to S2-onset interval (mean, sd) at a heart rate, from the Weissler
+    S1-onset to A2-onset interval (mean, sd) at a heart rate, from the Weissler
     regression of total electromechanical systole on heart rate.
 left_ventricular_ejection_time_s
     Weissler regression of ejection time on heart rate (mean, sd).
@@ -158,7 +158,7 @@ def pre_ejection_period_s(heart_rate_bpm: float, *, sex: str = "male") -> tuple[
 
 
 def systolic_interval_s(heart_rate_bpm: float, *, sex: str = "male") -> tuple[float, float]:
-    """S1-onset to S2-onset (M1 to A2) interval at a heart rate.
+    """S1-onset to S2-onset (first vibrations of S1 to A2) interval at a heart rate.
 
     Total electromechanical systole QS2 from the Weissler et al. 1968 regression
     (coefficients from memory) minus the Q-to-M1 delay (``Q_TO_M1_S``, common

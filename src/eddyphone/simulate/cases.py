@@ -270,9 +270,75 @@ def write_benchmark(out_dir: str | Path, n: int, seed: int = 0, *, overwrite: bo
     return _write_set(specs, out_dir, overwrite=overwrite)
 
 
+_ROMAN = ("-", "I", "II", "III", "IV", "V", "VI")
+
+
+def demo_readme(index_rows: list[dict], specs: dict[str, CaseSpec]) -> str:
+    """The ``README.md`` of a demo folder: the scenario, a table of cases, the file layout."""
+    lines = [
+        "# Demo recordings (synthetic)",
+        "",
+        "**Every recording in this folder is synthetic.** They were made by "
+        "`eddyphone simulate` (module `eddyphone.simulate`); no real patient, person or "
+        "device was recorded. " + DEMO_SCENARIO,
+        "",
+        "All files are mono WAV, 16-bit PCM at 4 kHz, at most 20 s long. Each has two "
+        "truth files made at the same time as the sound, so the truth is exact.",
+        "",
+        "| id | case | heart rate, rhythm | murmur (cause: phase, timing, shape, grade, pitch)"
+        " | extra sounds | site / device | SNR, noise |",
+        "|---|---|---|---|---|---|---|",
+    ]
+    for r in index_rows:
+        spec = specs[r["id"]]
+        if r["murmur_cause"] == "none":
+            mur = "none"
+        else:
+            mur = (f"{r['murmur_cause']}: {r['murmur_phase']}, {r['murmur_timing']}, "
+                   f"{r['murmur_shape']}, grade {_ROMAN[int(r['murmur_grade'])]}, "
+                   f"{r['murmur_pitch']}")
+        extras = ", ".join(k for k, on in (("S3", spec.s3), ("S4", spec.s4),
+                                           ("ejection click", spec.ejection_click),
+                                           ("opening snap", spec.opening_snap)) if on) or "-"
+        noise = [k for k, on in (("speech", spec.speech), ("friction", spec.friction_per_min),
+                                 (f"{spec.hum_hz or 0:.0f} Hz hum", spec.hum_hz)) if on]
+        lines.append(
+            f"| `{r['id']}` | {spec.note} | {float(r['heart_rate_bpm']):.0f} bpm, {spec.rhythm}"
+            f" | {mur} | {extras} | {spec.site} / {spec.device} | "
+            f"{float(r['snr_db']):.0f} dB{', ' + ', '.join(noise) if noise else ''} |")
+    lines += [
+        "",
+        "## Files",
+        "",
+        "- `<id>.wav`: the recording, peak-normalised, with the chest wall, the stethoscope "
+        "response (`diaphragm`, `bell`, `steep_tilt`: strong low-frequency tilt, about "
+        "-35 dB from 20 to 200 Hz and -70 dB by 400 Hz; `phone`; `flat`) and noise applied.",
+        "- `<id>.truth.csv`: header `start_s,end_s,label`. First the segments `S1`, "
+        "`systole`, `S2`, `diastole` in time order, covering whole cycles only; then rows for "
+        "extra sounds (`S3`, `S4`, `click`, `snap`) and `murmur` spans (per beat, where the "
+        "murmur is within 20 dB of that beat's peak).",
+        "- `<id>.truth.json`: everything: the spec, every beat (valve components M1, T1, A2, "
+        "P2, splits, lung volume), the murmur (phase, designed timing and shape, the same "
+        "measured from the signal, pitch band, grade, level re S1, and the flow physics: "
+        "diameter, velocity, hematocrit, viscosity, Reynolds number and regime, Bernoulli "
+        "gradient, Strouhal break frequency), noise levels and the device response.",
+        "- `index.csv`: one row per recording with the main fields.",
+        "",
+        "Murmur grades follow our own loudness convention (murmur peak RMS relative to S1 "
+        "RMS; edges -20/-13/-6/0/+6 dB), not a clinical examination: grades IV and above "
+        "would need a palpable thrill, which no sound file can show.",
+        "",
+        "Regenerate with `eddyphone simulate --out sample_audio --overwrite`; the same "
+        "version and seed give the same bytes.",
+        "",
+    ]
+    return "\n".join(lines)
+
+
 def write_demo(out_dir: str | Path, names: list[str] | None = None, *, seed: int | None = None,
                overwrite: bool = False) -> Path:
-    """Generate the demo cases (all, or ``names``) into ``out_dir`` with ``index.csv``.
+    """Generate the demo cases (all, or ``names``) into ``out_dir`` with ``index.csv``
+    and ``README.md``.
 
     ``seed`` replaces every case's own seed when given.
     """
@@ -286,4 +352,12 @@ def write_demo(out_dir: str | Path, names: list[str] | None = None, *, seed: int
                          f"choose from {', '.join(all_specs)}")
     specs = {nm: (all_specs[nm] if seed is None else all_specs[nm].with_(seed=seed))
              for nm in names}
-    return _write_set(specs, out_dir, overwrite=overwrite)
+    readme = Path(out_dir) / "README.md"
+    if readme.exists() and not overwrite:
+        raise InputError(str(readme), "already exists and would be overwritten",
+                         "choose another --out folder or pass --overwrite")
+    index = _write_set(specs, out_dir, overwrite=overwrite)
+    with open(index) as fh:
+        rows = list(csv.DictReader(fh))
+    readme.write_text(demo_readme(rows, specs))
+    return index

@@ -107,18 +107,30 @@ def _minimum_phase_fir(gain_db: np.ndarray, n_fft: int) -> np.ndarray:
     return h[:n_keep] * window
 
 
+def _preroll(x: np.ndarray, m: int) -> np.ndarray:
+    # odd reflection of the start so that a causal filter begins in steady state
+    # (a recording has no switch-on step: the body was sounding before it started)
+    m = min(m, len(x) - 1)
+    head = 2 * x[0] - x[m:0:-1]
+    return np.concatenate([head, x])
+
+
 def apply_device(x: np.ndarray, fs: float, device: str) -> np.ndarray:
     """Filter ``x`` through the named device response (causal, minimum phase)."""
     n_fft = int(2 ** np.ceil(np.log2(fs)))  # ~1 Hz resolution
     f = np.fft.rfftfreq(n_fft, 1.0 / fs)
     h = _minimum_phase_fir(device_gain_db(device, f), n_fft)
-    return signal.fftconvolve(x, h)[: len(x)]
+    m = len(h)
+    y = signal.fftconvolve(_preroll(x, m), h)
+    k = min(m, len(x) - 1)
+    return y[k: k + len(x)]
 
 
 def chest_wall(x: np.ndarray, fs: float, cutoff_hz: float) -> np.ndarray:
     """Second-order low-pass standing for the tissue between heart and chest surface."""
     sos = signal.butter(2, min(cutoff_hz, 0.45 * fs), "low", fs=fs, output="sos")
-    return signal.sosfilt(sos, x)
+    k = min(int(0.1 * fs), len(x) - 1)
+    return signal.sosfilt(sos, _preroll(x, k))[k:]
 
 
 def band_power(x: np.ndarray, fs: float, band_hz: tuple[float, float] = (25.0, 400.0)

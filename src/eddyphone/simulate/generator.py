@@ -142,7 +142,8 @@ def generate(spec: CaseSpec, *, seed: int | None = None) -> Simulated:
     else:
         snap_delay = r_subject.uniform(0.07, os_hi)
     timbres = {k: Timbre.draw(k, r_subject) for k in
-               ("M1", "T1", "A2", "P2", "S3", "S4", "click", "snap")}
+               ("S1a", "M1", "T1", "A2", "P2", "S3", "S4", "click", "snap")}
+    m1_lead = r_subject.uniform(0.005, 0.015)
     site = SITE_LEVELS[spec.site]
 
     # --- heart sounds, beat by beat --------------------------------------------------
@@ -158,8 +159,9 @@ def generate(spec: CaseSpec, *, seed: int | None = None) -> Simulated:
                                                      sex=spec.sex)
         shrink = float(np.clip((rr / 0.8) ** 0.25, 0.8, 1.05))
         s1_dur = s1_base * shrink * (1 + r_sound.normal(0, 0.05))
-        comp1 = max(s1_dur - m1_t1, 0.05)
+        comp1 = max(s1_dur - m1_t1 - m1_lead, 0.05)
         vol = float(np.clip(breath.at(s1 + sys_mean), 0, 1))
+        soften = 1.0 - spec.respiratory_loudness * vol
         if spec.s2_split == "physiological":
             split = split_lo + (split_hi - split_lo) * vol + r_sound.normal(0, 0.002)
         elif spec.s2_split == "fixed":
@@ -176,21 +178,25 @@ def generate(spec: CaseSpec, *, seed: int | None = None) -> Simulated:
         else:
             g1 = float(np.clip((mean_rr / rr_prev) ** 0.5, 0.6, 1.6))
             g1 *= 1 + r_sound.normal(0, 0.08)
-        g2 = (1.0 + r_sound.normal(0, 0.06)) * (0.5 if premature else 1.0)
-        m1 = add_component(sounds, fs, s1, comp1, site["S1"] * g1, timbres["M1"], r_sound)
+        g1 *= soften
+        g2 = (1.0 + r_sound.normal(0, 0.06)) * (0.5 if premature else 1.0) * soften
+        s1a = add_component(sounds, fs, s1, comp1 * 0.7, 0.2 * site["S1"] * g1, timbres["S1a"],
+                            r_sound)
+        m1 = add_component(sounds, fs, s1 + m1_lead, comp1, site["S1"] * g1, timbres["M1"],
+                           r_sound)
         t1_delay = float(np.clip(m1_t1 + r_sound.normal(0, 0.002), *physiology.S1_SPLIT_S))
-        t1 = add_component(sounds, fs, s1 + t1_delay, comp1,
+        t1 = add_component(sounds, fs, s1 + m1_lead + t1_delay, comp1,
                            site["S1"] * site["T1"] * g1, timbres["T1"], r_sound)
         a2 = add_component(sounds, fs, s1 + sys, comp2, site["S2"] * g2, timbres["A2"], r_sound)
         p2 = add_component(sounds, fs, s1 + sys + split, comp2, site["S2"] * site["P2"] * g2,
                            timbres["P2"], r_sound)
         nxt = s1 + rr
         row = {
-            "index": i, "s1_start_s": m1[0], "s1_end_s": max(m1[1], t1[1]),
+            "index": i, "s1_start_s": s1a[0], "s1_end_s": max(m1[1], t1[1]),
             "s2_start_s": min(a2[0], p2[0]), "s2_end_s": max(a2[1], p2[1]),
             "next_s1_s": float(round(nxt * fs) / fs), "rr_s": float(rr), "rr_prev_s": rr_prev,
             "premature": premature, "hr_for_systole_bpm": hr_for_systole,
-            "systolic_interval_s": a2[0] - m1[0],
+            "systolic_interval_s": a2[0] - s1a[0],
             "systolic_interval_expected_s": sys_mean,
             "m1_s": m1[0], "t1_s": t1[0], "a2_s": a2[0], "p2_s": p2[0],
             "s1_split_s": t1[0] - m1[0], "s2_split_s": p2[0] - a2[0],
@@ -222,7 +228,7 @@ def generate(spec: CaseSpec, *, seed: int | None = None) -> Simulated:
                                    timbres["S4"], r_sound)
                 events.append((iv[0], iv[1], "S4"))
         if spec.ejection_click:
-            on = m1[0] + _within(click_delay + r_sound.normal(0, 0.003),
+            on = s1a[0] + _within(click_delay + r_sound.normal(0, 0.003),
                                  physiology.EJECTION_CLICK_AFTER_S1_S)
             d = r_sound.uniform(0.012, 0.022)
             if on + d < a2[0] - 0.03:
@@ -297,7 +303,13 @@ def generate(spec: CaseSpec, *, seed: int | None = None) -> Simulated:
     mains = np.zeros(n)
     if spec.hum_hz:
         mains = chain.hum(n, fs, spec.hum_hz, r_noise) * np.sqrt(p_card) * 10 ** (spec.hum_db / 20)
-    noise = stationary + friction + mains
+    motion = np.zeros(n)
+    if spec.precordial_motion > 0:
+        raw = _precordial_motion(beat_rows, n, fs, sinus)
+        motion = chain.apply_device(raw, fs, spec.device)
+        motion *= spec.precordial_motion * np.abs(
+            chain.apply_device(sounds, fs, spec.device)).max() / (np.abs(raw).max() + 1e-20)
+    noise = stationary + friction + mains + motion
     y = cardiac + noise
 
     # --- gain, clipping, quantisation -----------------------------------------------
@@ -355,6 +367,7 @@ def generate(spec: CaseSpec, *, seed: int | None = None) -> Simulated:
             "speech_weight": spec.speech,
             "hum_hz": spec.hum_hz, "hum_db_re_cardiac": spec.hum_db if spec.hum_hz else None,
             "friction_bursts": [[a, b, k] for a, b, k in fr_events],
+            "precordial_motion": spec.precordial_motion,
         },
         "device": {"response": spec.device, "note": chain.DEVICE_NOTES[spec.device],
                    "chest_wall_cutoff_hz": spec.chest_wall_cutoff_hz},
@@ -362,6 +375,27 @@ def generate(spec: CaseSpec, *, seed: int | None = None) -> Simulated:
     parts = {"cardiac": cardiac * gain, "murmur": murmur_dev * gain, "noise": noise * gain}
     return Simulated(x=x, fs=fs, segments=tuple(segments), events=ev, murmur_spans=sp_in,
                      truth=truth, parts=parts)
+
+
+def _precordial_motion(beat_rows: list[dict], n: int, fs: float, sinus: bool) -> np.ndarray:
+    """Slow chest-wall movement with each beat (apical impulse), before the device.
+
+    A systolic outward thrust from S1 to just after A2, a small rapid-filling wave in
+    early diastole and, in sinus rhythm, an atrial wave before S1 (the shape of an
+    apexcardiogram, common practice), all smooth and below about 20 Hz.
+    """
+    t = np.arange(n) / fs
+    y = np.zeros(n)
+    for b in beat_rows:
+        s1, a2, nxt = b["s1_start_s"], b["a2_s"], b["next_s1_s"]
+        for centre, width, height in (((s1 + a2) / 2, (a2 - s1) / 2.2, 1.0),
+                                      (a2 + 0.14, 0.04, 0.3),
+                                      (nxt - 0.08, 0.03, 0.25 if sinus else 0.0)):
+            lo = max(int((centre - 4 * width) * fs), 0)
+            hi = min(int((centre + 4 * width) * fs), n)
+            if hi > lo and height > 0:
+                y[lo:hi] += height * np.exp(-0.5 * ((t[lo:hi] - centre) / width) ** 2)
+    return y - y.mean()
 
 
 def _round_row(row: dict) -> dict:

@@ -1,5 +1,8 @@
 """Transient heart sounds: valve components of S1 and S2, S3, S4, clicks and snaps.
 
+``S1a`` is the low-frequency onset of S1 (ventricular contraction before the valves
+close), starting S1 a few ms before the mitral component.
+
 Each component is a short vibration with a gamma-shaped envelope, a downward
 frequency glide (valve and wall vibrations ring down as tension falls), a second
 mode at a non-integer frequency ratio and a little band-limited noise. Its energy
@@ -23,6 +26,7 @@ import numpy as np
 #: Frequency glides (start, end) in Hz and second-mode ratios for each component,
 #: chosen inside the bands of :mod:`eddyphone.physiology` (S1_BAND_HZ etc.).
 TIMBRES = {
+    "S1a": {"f_start": (25.0, 40.0), "f_end": (18.0, 26.0), "ratio": (1.6, 2.2)},
     "M1": {"f_start": (45.0, 80.0), "f_end": (30.0, 45.0), "ratio": (1.7, 2.6)},
     "T1": {"f_start": (40.0, 70.0), "f_end": (28.0, 40.0), "ratio": (1.7, 2.6)},
     "A2": {"f_start": (90.0, 160.0), "f_end": (50.0, 75.0), "ratio": (1.5, 2.2)},

@@ -122,6 +122,13 @@ class CaseSpec:
         Relative weights (0-1) of breath sounds and room speech in the noise.
     friction_per_min : float
         Rate of friction and handling bursts.
+    precordial_motion : float
+        Amplitude of the slow chest-wall movement with each beat (apical impulse,
+        mostly below 20 Hz) relative to the S1 peak; strong through low-frequency
+        devices.
+    respiratory_loudness : float
+        Fraction by which heart sounds soften at full inspiration (more lung between
+        heart and chest piece).
     hum_hz : float or None
         Mains frequency (50 or 60) or None.
     hum_db : float
@@ -159,6 +166,8 @@ class CaseSpec:
     breathing: float = 0.3
     speech: float = 0.0
     friction_per_min: float = 0.0
+    precordial_motion: float = 0.3
+    respiratory_loudness: float = 0.15
     hum_hz: float | None = None
     hum_db: float = -30.0
     peak_dbfs: float = -1.0
@@ -185,6 +194,8 @@ class CaseSpec:
             (0.0 <= self.breathing <= 1.0, "breathing", "0-1"),
             (0.0 <= self.speech <= 1.0, "speech", "0-1"),
             (0.0 <= self.friction_per_min <= 120.0, "friction_per_min", "0-120"),
+            (0.0 <= self.precordial_motion <= 5.0, "precordial_motion", "0-5"),
+            (0.0 <= self.respiratory_loudness <= 0.6, "respiratory_loudness", "0-0.6"),
             (self.hum_hz is None or 40.0 <= self.hum_hz <= 70.0, "hum_hz",
              "None, 50 or 60 Hz"),
             (-60.0 <= self.peak_dbfs <= 0.0, "peak_dbfs", "-60-0 dBFS"),
