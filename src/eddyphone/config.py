@@ -11,6 +11,8 @@ import json
 from dataclasses import asdict, dataclass, field, fields, is_dataclass, replace
 
 from eddyphone.condition import ConditionConfig
+from eddyphone.explain import ExplainConfig
+from eddyphone.findings import FindingsConfig
 from eddyphone.quality import QualityConfig
 from eddyphone.segment import SegmentConfig
 
@@ -22,6 +24,8 @@ class Config:
     condition: ConditionConfig = field(default_factory=ConditionConfig)
     quality: QualityConfig = field(default_factory=QualityConfig)
     segment: SegmentConfig = field(default_factory=SegmentConfig)
+    findings: FindingsConfig = field(default_factory=FindingsConfig)
+    explain: ExplainConfig = field(default_factory=ExplainConfig)
 
     def to_dict(self) -> dict:
         """JSON-ready nested dictionary."""

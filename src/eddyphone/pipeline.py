@@ -103,6 +103,8 @@ def analyze(
     Analysis
         ``to_dict()`` gives the JSON output contract.
     """
+    from eddyphone.explain import explain
+    from eddyphone.findings import describe
     from eddyphone.io import load
     from eddyphone.segment import segment
 
@@ -121,20 +123,9 @@ def analyze(
     quality = assess(rec.x, rec.fs, config.quality)
     segmentation = segment(conditioned.x, conditioned.fs, quality=quality,
                            config=config.segment)
-    findings = explanation = None
-    try:
-        from eddyphone.findings import describe
-    except ImportError:  # findings stage not built yet
-        describe = None
-    if describe is not None:
-        findings = describe(conditioned.x, conditioned.fs, segmentation, quality=quality,
-                            config=config.findings)
-        try:
-            from eddyphone.explain import explain
-        except ImportError:  # explanation stage not built yet
-            explain = None
-        if explain is not None:
-            explanation = explain(findings, context=context, recording=rec,
-                                  segmentation=segmentation)
+    findings = describe(conditioned.x, conditioned.fs, segmentation, quality=quality,
+                        config=config.findings)
+    explanation = explain(findings, context=context, recording=rec, segmentation=segmentation,
+                          config=config.explain)
     return Analysis(rec, conditioned, quality, segmentation, findings, explanation, context,
                     config)
