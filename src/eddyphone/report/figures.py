@@ -393,13 +393,21 @@ def ensemble_figure(analysis: Any):
                       ha="center", va="top", fontsize=7, color=palette.MUTED)
         prof.fill_between(t_ms, q1, q3, color=palette.STATE_COLOURS["S1"], alpha=0.25, lw=0,
                           label="middle half of beats")
-        prof.plot(t_ms, med, color=palette.INK, lw=1.1, label="median beat")
+        (med_line,) = prof.plot(t_ms, med, color=palette.INK, lw=1.1, label="median beat")
         prof.set_ylim(-ENERGY_RANGE_DB - 3 - 3 * max(1, len(_murmurs(analysis))), 8)
         prof.set_ylabel("energy (dB)")
         prof.set_xlabel("time from S1 onset (ms)")
         prof.set_xlim(t_ms[0], t_ms[-1])
-        prof.legend(loc="lower right", ncol=2)
-        _murmur_marks(ax, prof, analysis, beats)
+        from matplotlib.lines import Line2D
+        from matplotlib.patches import Patch
+
+        keys = [med_line, Patch(color=palette.STATE_COLOURS["S1"], alpha=0.25,
+                                label="middle half of beats"),
+                Line2D([], [], ls="none", marker="|", ms=7, mew=1.8,
+                       color=palette.STATE_COLOURS["S2"], label="S2 onset")]
+        keys += _murmur_marks(ax, prof, analysis, beats)
+        fig.legend(handles=keys, loc="outside lower center", ncol=len(keys),
+                   handletextpad=0.3, columnspacing=1.0)
         prof.grid(axis="y")
     return fig
 
@@ -420,7 +428,7 @@ def _median_bounds(beats: Sequence) -> list[tuple[str, float, float]]:
     return out
 
 
-def _murmur_marks(ax, prof, analysis: Any, beats: Sequence) -> None:
+def _murmur_marks(ax, prof, analysis: Any, beats: Sequence) -> list:
     """Mark the median window of each murmur under the profile, and, beside the image,
     the beats in which the findings stage heard it."""
     bounds = {k: (a, b) for k, a, b in _median_bounds(beats)}
@@ -442,7 +450,8 @@ def _murmur_marks(ax, prof, analysis: Any, beats: Sequence) -> None:
     measures = {bm.beat: bm for bm in getattr(analysis.findings, "beat_measures", ())} \
         if analysis.findings is not None else {}
     if not measures:
-        return
+        return []
+    ms = float(np.clip(90.0 / max(1, len(beats)), 1.5, 3.8))
     side = ax.inset_axes([1.006, 0.0, 0.022, 1.0])
     side.set_xlim(0, 1)
     side.set_ylim(len(beats) - 0.5, -0.5)
@@ -456,23 +465,20 @@ def _murmur_marks(ax, prof, analysis: Any, beats: Sequence) -> None:
                 ("diastolic" in phases and bm.dia_murmur) or \
                 ("continuous" in phases and bm.sys_murmur and bm.dia_murmur)
         if not bm.usable:
-            side.plot(0.5, row, marker="x", ms=3.5, color=palette.MUTED, mew=0.8)
+            side.plot(0.5, row, marker="x", ms=ms, color=palette.MUTED, mew=0.7)
         else:
-            side.plot(0.5, row, marker="s", ms=3.8, mew=0.9, color=palette.ACCENT,
+            side.plot(0.5, row, marker="s", ms=ms, mew=0.7, color=palette.ACCENT,
                       mfc=palette.ACCENT if heard else palette.PAPER)
     side.text(0.5, -0.6, "murmur", rotation=90, ha="center", va="bottom", fontsize=6.5,
               color=palette.ACCENT, transform=side.transData)
     from matplotlib.lines import Line2D
 
-    keys = [Line2D([], [], ls="none", marker="|", ms=7, mew=1.8,
-                   color=palette.STATE_COLOURS["S2"], label="S2 onset"),
-            Line2D([], [], ls="none", marker="s", ms=4.5, color=palette.ACCENT,
+    return [Line2D([], [], ls="none", marker="s", ms=4.5, color=palette.ACCENT,
                    label="murmur heard in the beat"),
             Line2D([], [], ls="none", marker="s", ms=4.5, color=palette.ACCENT,
                    mfc=palette.PAPER, label="not heard"),
             Line2D([], [], ls="none", marker="x", ms=4.5, color=palette.MUTED,
                    label="beat not usable")]
-    ax.figure.legend(handles=keys, loc="outside lower right", ncol=4, handletextpad=0.3)
 
 
 # --- murmur profile -------------------------------------------------------------------
@@ -595,7 +601,7 @@ def _murmur_spectrum(ax, x, fs, analysis, murmur, windows) -> None:
     ax.set_ylabel("power (dB re peak)")
     pitch = getattr(murmur, "pitch", None)
     ax.set_title("Spectrum" + (f" — {pitch} pitch" if pitch else ""), fontsize=9)
-    ax.legend(loc="lower left")
+    ax.legend(loc="upper center", bbox_to_anchor=(0.5, -0.2), ncol=2)
     ax.grid(True, which="major")
 
 
