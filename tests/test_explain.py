@@ -133,33 +133,55 @@ def test_viscosity_numbers_match_physics():
     assert n["reynolds_number_peak"]["value"] == pytest.approx(re, rel=1e-9)
 
 
-def test_jet_numbers_match_strouhal_and_bernoulli():
+def test_outflow_jet_numbers_match_continuity_strouhal_and_bernoulli():
     ctx = PatientContext(diameter_mm=9.0, site="aortic")
     n = numbers(explain(findings(murmur(dominant_frequency_hz=300.0)), context=ctx),
                 "narrowed_orifice")
-    # Strouhal scaling v = f d / St with St = 1 (Lees & Dewey 1970, from memory)
-    v = 300.0 * 0.009 / 1.0
+    mu = physics.blood_viscosity_pa_s(0.45)
+    # continuity: the resting aortic peak flow (1.1 m/s in 25 mm) through the 9 mm orifice
+    q = 1.1 * math.pi * 0.025**2 / 4
+    v = q / (math.pi * 0.009**2 / 4)
     assert n["jet_velocity_m_s"]["value"] == pytest.approx(v, rel=1e-12)
     assert n["jet_velocity_m_s"]["value"] == pytest.approx(
-        physics.strouhal_velocity_m_s(frequency_hz=300.0, diameter_m=0.009), rel=1e-12)
+        physics.velocity_from_flow_m_s(q, 0.009), rel=1e-12)
     # simplified Bernoulli 4 v^2 (common practice)
     assert n["pressure_drop_mmhg"]["value"] == pytest.approx(4.0 * v**2, rel=1e-12)
-    mu = physics.blood_viscosity_pa_s(0.45)
     assert n["jet_reynolds_number"]["value"] == pytest.approx(
         Reynolds(V=v, D=0.009, rho=1060.0, mu=mu), rel=1e-9)
+    # Strouhal scaling f = St v / d with St = 1 (Lees & Dewey 1970, from memory)
+    assert n["break_frequency_hz"]["value"] == pytest.approx(v / 0.009, rel=1e-12)
+    assert n["pitch_velocity_m_s"]["value"] == pytest.approx(300.0 * 0.009, rel=1e-12)
+    assert n["pitch_velocity_m_s"]["value"] == pytest.approx(
+        physics.strouhal_velocity_m_s(frequency_hz=300.0, diameter_m=0.009), rel=1e-12)
     assert n["orifice_diameter_mm"]["value"] == pytest.approx(9.0)
     # the supplied diameter is the lumen: Re = 4 rho Q / (pi D mu) at the normal peak flow
-    q = 1.1 * math.pi * 0.025**2 / 4
     assert n["reynolds_number_peak"]["value"] == pytest.approx(
         4 * 1060.0 * q / (math.pi * 0.009 * mu), rel=1e-9)
     assert n["diameter_factor"]["value"] == pytest.approx(25.0 / 9.0, rel=1e-12)
+
+
+def test_leak_jet_from_driving_pressure_round_trips_bernoulli():
+    e = explain(findings(murmur(timing="holo", shape="plateau", dominant_frequency_hz=320.0)),
+                context=PatientContext(site="mitral"))
+    n = numbers(e, "narrowed_orifice")
+    # ventricle-to-atrium systolic difference about 100 mmHg (common practice, from memory)
+    assert n["driving_pressure_mmhg"]["value"] == pytest.approx(100.0)
+    v = n["jet_velocity_m_s"]["value"]
+    # MR jets run at about 5-6 m/s by Doppler (common practice, from memory)
+    assert 4.5 <= v <= 6.0
+    assert physics.bernoulli_pressure_drop_mmhg(v) == pytest.approx(100.0, rel=1e-12)
+    assert n["break_frequency_hz"]["value"] == pytest.approx(
+        physics.strouhal_frequency_hz(velocity_m_s=v, diameter_m=0.005), rel=1e-12)
+    assert "mitral regurgitation" in e.top().label
 
 
 def test_numbers_appear_in_the_physics_text():
     e = explain(findings(murmur(dominant_frequency_hz=300.0)),
                 context=PatientContext(diameter_mm=9.0))
     m = next(x for x in e.for_finding("m1") if x.name == "narrowed_orifice")
-    assert "2.7 m/s" in m.physics and "29.2 mmHg" in m.physics and "9 mm" in m.physics
+    v = 1.1 * (25.0 / 9.0) ** 2
+    assert f"{v:.3g} m/s" in m.physics and f"{4 * v * v:.3g} mmHg" in m.physics
+    assert "9 mm" in m.physics and "300 Hz" in m.physics
 
 
 def test_womersley_with_measured_heart_rate():

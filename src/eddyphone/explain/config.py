@@ -93,16 +93,27 @@ def lumen_for(site: str | None, phase: str) -> Lumen:
 
 #: Orifice diameters (m) assumed for a narrowed orifice when none is supplied, by
 #: murmur pattern. Equivalent circular diameters of typical lesion areas (common
-#: practice, from memory): outflow narrowing with valve area about 0.8 cm2 (10 mm);
+#: practice, from memory): outflow narrowing with valve area about 1.1 cm2 (12 mm, a
+#: moderate narrowing: with the resting peak flow it gives a jet near 4.8 m/s);
 #: leak with effective regurgitant orifice about 0.2 cm2 (5 mm); inflow narrowing with
 #: valve area about 1.5 cm2 (14 mm); continuous shunt through a channel about 4 mm.
 #: Vessels: a 50 % diameter narrowing of the reference vessel.
 DEFAULT_ORIFICES_M = {
-    "outflow": 0.010,
+    "outflow": 0.012,
     "leak": 0.005,
     "inflow": 0.014,
     "shunt": 0.004,
 }
+
+
+#: Pressure difference that typically drives each kind of jet, mmHg (common practice,
+#: from memory): ventricle to atrium in systole about 100 (systolic pressure ~120 less
+#: atrial ~10-20); aorta to ventricle early in diastole about 60; atrium to ventricle
+#: across a narrowed inflow valve about 10 (peak; mean gradients of 5-10 mark a tight
+#: narrowing); aorta to pulmonary artery through a shunt about 70. An outflow narrowing
+#: has no typical value: its gradient is what measures its severity.
+DRIVING_PRESSURE_MMHG = {"leak_systolic": 100.0, "leak_diastolic": 60.0, "inflow": 10.0,
+                         "shunt": 70.0}
 
 
 @dataclass(frozen=True)

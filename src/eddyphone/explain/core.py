@@ -15,11 +15,13 @@ from eddyphone.explain.config import ExplainConfig, lumen_for
 from eddyphone.explain.model import Explanation, Mechanism
 from eddyphone.explain.numbers import (
     Basis,
+    continuity_jet_numbers,
     default_orifice,
+    driving_numbers,
     flow_noise_ceiling_hz,
     fmt,
-    jet_numbers,
     levers,
+    pitch_numbers,
     resolve_basis,
     vessel_numbers,
     viscosity_numbers,
@@ -112,7 +114,8 @@ def _explain_murmur(m: object, extra_kinds: Iterable[str], basis: Basis,
                  "h_assumed": basis.hematocrit_source == "default", "present": present}
         ev = tuple(f"{e.text} ({e.for_(name):+.1f})" for e in evidence if e.for_(name))
         out.append(Mechanism(
-            name=name, label=label(name, pattern), score=float(scores[i]), rank=0,
+            name=name, label=label(name, pattern, phase=m.phase, site=basis.site),
+            score=float(scores[i]), rank=0,
             finding_id=m.id, evidence=ev,
             physics=physics_text(name, numbers, pattern=pattern, lumen=lumen.name,
                                  facts=facts),
@@ -156,11 +159,14 @@ def _numbers(name: str, phase: str, pattern: str, f_hz: float | None, basis: Bas
     if name == "low_viscosity":
         return viscosity_numbers(basis, phase, config)
     if name == "narrowed_orifice":
-        out: dict[str, dict] = {}
+        d, note = default_orifice(basis, pattern, phase)
+        kind = _driving_kind(pattern, phase)
+        if kind is None:
+            out = continuity_jet_numbers(d, note, basis, phase, config)
+        else:
+            out = driving_numbers(kind, d, note, basis, config)
         if f_hz is not None:
-            out["dominant_frequency_hz"] = _num(f_hz, "Hz", "Dominant frequency of the murmur.")
-            d, note = default_orifice(basis, pattern, phase)
-            out.update(jet_numbers(f_hz, d, note, basis, config))
+            out.update(pitch_numbers(f_hz, d, config))
         out["flow_noise_ceiling_hz"] = _num(
             flow_noise_ceiling_hz(basis, phase, config), "Hz",
             "Highest pitch that flow through a normal-sized lumen plausibly makes (Strouhal "
@@ -186,18 +192,31 @@ def _numbers(name: str, phase: str, pattern: str, f_hz: float | None, basis: Bas
             "reynolds_number_normal": vessel["reynolds_number_normal"]}
 
 
+def _driving_kind(pattern: str, phase: str) -> str | None:
+    if pattern == "leak":
+        return "leak_systolic" if phase == "systolic" else "leak_diastolic"
+    return pattern if pattern in ("inflow", "shunt") else None
+
+
 def _mechanism_cautions(name: str, numbers: Mapping[str, Mapping], basis: Basis) -> list[str]:
     out = []
-    if name == "narrowed_orifice" and "jet_velocity_m_s" in numbers:
+    if name == "narrowed_orifice":
         if basis.diameter_m is None:
-            out.append("The orifice size is assumed: the jet velocity scales with it and the "
-                       "pressure drop with its square, so read them as orders of magnitude.")
+            out.append("The orifice size is assumed: with the flow fixed the jet velocity "
+                       "scales with 1/d^2, and the pressure drop with 1/d^4, so read them as "
+                       "orders of magnitude." if "driving_pressure_mmhg" not in numbers else
+                       "The orifice size and driving pressure are assumed typical values, so "
+                       "read the jet numbers as orders of magnitude.")
         dp = float(numbers["pressure_drop_mmhg"]["value"])
         if dp > 150.0:
             out.append(f"A pressure drop of {fmt(dp)} mmHg is more than the heart can make: "
-                       "the orifice is smaller than assumed or the pitch is not the jet's.")
-        out.append("Chest wall and stethoscope damp high frequencies, so the measured pitch "
-                   "(and the jet velocity taken from it) may be too low.")
+                       "the orifice is larger than assumed, or the flow is lower.")
+        if "pitch_velocity_m_s" in numbers and float(numbers["pitch_velocity_m_s"]["value"]) \
+                > 1.2 * float(numbers["jet_velocity_m_s"]["value"]):
+            out.append("The heard pitch needs a faster jet than the estimate: the orifice is "
+                       "probably smaller than assumed.")
+        out.append("Chest wall and stethoscope damp high frequencies, so the heard pitch "
+                   "understates the jet's noise band.")
     if name == "low_viscosity" and basis.hematocrit_source == "default":
         out.append("Hematocrit not supplied: thin blood can neither be confirmed nor "
                    "excluded from the sound.")

@@ -11,13 +11,21 @@ output, heart rate, lumen and orifice, each tagged with where it came from
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 
 import numpy as np
 
-from eddyphone.explain.config import DEFAULT_ORIFICES_M, ExplainConfig, Lumen, lumen_for
+from eddyphone.explain.config import (
+    DEFAULT_ORIFICES_M,
+    DRIVING_PRESSURE_MMHG,
+    ExplainConfig,
+    Lumen,
+    lumen_for,
+)
 from eddyphone.physics import (
     NORMAL_HEMATOCRIT,
+    SIMPLIFIED_BERNOULLI_MMHG_S2_M2,
     TRANSITION_RE_HIGH,
     TRANSITION_RE_LOW,
     bernoulli_pressure_drop_mmhg,
@@ -296,33 +304,95 @@ def default_orifice(basis: Basis, pattern: str, phase: str) -> tuple[float, str]
     if basis.site in VESSEL_SITES:
         lumen = lumen_for(basis.site, phase)
         return 0.5 * lumen.diameter_m, f"assumed: 50 % narrowing of a {lumen.name}"
-    names = {"outflow": "assumed: outflow valve area about 0.8 cm2",
+    names = {"outflow": "assumed: outflow valve area about 1.1 cm2",
              "leak": "assumed: leak orifice area about 0.2 cm2",
              "inflow": "assumed: inflow valve area about 1.5 cm2",
              "shunt": "assumed: shunt channel about 4 mm"}
     return DEFAULT_ORIFICES_M[pattern], names[pattern]
 
 
-def jet_numbers(dominant_frequency_hz: float, orifice_m: float, orifice_note: str,
-                basis: Basis, config: ExplainConfig) -> dict[str, dict]:
-    """Jet velocity implied by the dominant frequency (Strouhal), its pressure drop and Re."""
-    v = float(strouhal_velocity_m_s(frequency_hz=dominant_frequency_hz, diameter_m=orifice_m,
-                                    strouhal=config.strouhal))
+def _regime_words(re: float) -> str:
+    regime = flow_regime(re)
+    if regime == "turbulent":
+        return (f"{re / TRANSITION_RE_HIGH:.1f} times the top of the steady-pipe transition "
+                "range")
+    if regime == "transitional":
+        return "inside the steady-pipe transition range"
+    return "below the steady-pipe transition range, so such a jet alone would hardly be heard"
+
+
+def _jet(v: float, orifice_m: float, how: str, basis: Basis,
+         config: ExplainConfig) -> dict[str, dict]:
     dp = float(bernoulli_pressure_drop_mmhg(v))
     re = float(reynolds_number(velocity_m_s=v, diameter_m=orifice_m,
                                viscosity_pa_s=basis.viscosity_pa_s))
+    f_b = float(strouhal_frequency_hz(velocity_m_s=v, diameter_m=orifice_m,
+                                      strouhal=config.strouhal))
     return {
-        "orifice_diameter_mm": _n(orifice_m * 1e3, "mm",
-                                  f"Orifice the jet passes ({orifice_note})."),
-        "jet_velocity_m_s": _n(v, "m/s", f"Jet speed that makes turbulent noise near "
-                               f"{dominant_frequency_hz:.0f} Hz through that orifice "
-                               f"(Strouhal, v = f d / St, St = {config.strouhal:g})."),
-        "pressure_drop_mmhg": _n(dp, "mmHg", "Pressure difference that drives the jet, by "
+        "jet_velocity_m_s": _n(v, "m/s", f"Peak jet velocity ({how})."),
+        "pressure_drop_mmhg": _n(dp, "mmHg", "Pressure difference across the orifice by "
                                  "simplified Bernoulli (4 v^2): a peak instantaneous gradient."),
-        "jet_reynolds_number": _n(re, "", f"rho v d / mu in the jet: {flow_regime(re)} by the "
-                                  "steady-pipe criterion; "
-                                  f"{re / TRANSITION_RE_HIGH:.1f} times the top of the "
-                                  "transition range."),
+        "jet_reynolds_number": _n(re, "", f"rho v d / mu in the jet: {_regime_words(re)}."),
+        "break_frequency_hz": _n(f_b, "Hz", "Where the jet's turbulent noise falls off in pitch "
+                                 f"(Strouhal, St v / d with St = {config.strouhal:g}); chest "
+                                 "wall and stethoscope pass little above a few hundred Hz, so "
+                                 "the heard pitch is often lower."),
+    }
+
+
+def continuity_jet_numbers(orifice_m: float, orifice_note: str, basis: Basis, phase: str,
+                           config: ExplainConfig) -> dict[str, dict]:
+    """A narrowing the whole flow must pass: jet velocity by continuity, then Bernoulli."""
+    lumen = lumen_for(basis.site, phase)
+    q = float(flow_from_velocity_m3_s(peak_velocity_m_s(basis, lumen, lumen.diameter_m, config),
+                                      lumen.diameter_m))
+    v = float(velocity_from_flow_m_s(q, orifice_m))
+    return {
+        "orifice_diameter_mm": _n(orifice_m * 1e3, "mm", f"Orifice ({orifice_note})."),
+        "peak_flow_l_min": _n(l_min_from_m3_s(q), "L/min", f"Peak flow of the {lumen.name}, "
+                              "all of which passes the narrowing."),
+        **_jet(v, orifice_m, "continuity: the peak flow through the orifice area, v = Q/A",
+               basis, config),
+    }
+
+
+def driving_numbers(kind: str, orifice_m: float, orifice_note: str, basis: Basis,
+                    config: ExplainConfig) -> dict[str, dict]:
+    """A jet driven by a typical pressure difference: velocity by Bernoulli, then Re, pitch.
+
+    ``kind`` is a key of :data:`~eddyphone.explain.config.DRIVING_PRESSURE_MMHG`. The
+    velocity inverts the simplified Bernoulli rule (dP = 4 v^2, its constant from
+    :mod:`eddyphone.physics`).
+    """
+    dp = DRIVING_PRESSURE_MMHG[kind]
+    v = math.sqrt(dp / SIMPLIFIED_BERNOULLI_MMHG_S2_M2)
+    where = {"leak_systolic": "ventricle to atrium in systole",
+             "leak_diastolic": "aorta to ventricle in early diastole",
+             "inflow": "atrium to ventricle across a narrowed valve",
+             "shunt": "aorta to pulmonary artery"}[kind]
+    return {
+        "orifice_diameter_mm": _n(orifice_m * 1e3, "mm", f"Orifice ({orifice_note})."),
+        "driving_pressure_mmhg": _n(dp, "mmHg", f"Typical pressure difference from {where} "
+                                    "(common practice)."),
+        **_jet(v, orifice_m, "simplified Bernoulli inverted: v = sqrt(dP / 4)", basis, config),
+    }
+
+
+def pitch_numbers(dominant_frequency_hz: float, orifice_m: float,
+                  config: ExplainConfig) -> dict[str, dict]:
+    """The least jet velocity the heard pitch needs through the orifice (Strouhal)."""
+    v = float(strouhal_velocity_m_s(frequency_hz=dominant_frequency_hz, diameter_m=orifice_m,
+                                    strouhal=config.strouhal))
+    return {
+        "dominant_frequency_hz": _n(dominant_frequency_hz, "Hz", "Dominant frequency of the "
+                                    "murmur."),
+        "pitch_velocity_m_s": _n(v, "m/s", f"Least jet velocity whose noise reaches "
+                                 f"{dominant_frequency_hz:.0f} Hz through the orifice (v = f d "
+                                 f"/ St); the dominant frequency lies at or below the break "
+                                 "frequency, so the jet is at least this fast."),
+        "pitch_pressure_drop_mmhg": _n(float(bernoulli_pressure_drop_mmhg(v)), "mmHg",
+                                       "The pressure difference that least velocity needs "
+                                       "(simplified Bernoulli)."),
     }
 
 

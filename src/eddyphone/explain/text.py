@@ -27,11 +27,34 @@ _ORIFICE_LABELS = {
 }
 
 
-def label(name: str, pattern: str | None = None) -> str:
-    """Plain-words label of a mechanism (the orifice label follows the pattern)."""
-    if name == "narrowed_orifice" and pattern in _ORIFICE_LABELS:
-        return _ORIFICE_LABELS[pattern]
-    return LABELS[name]
+_LESIONS = {
+    # (pattern, phase, site) -> the valve-level reading, in the trade's words
+    ("outflow", "systolic", "aortic"): "at the aortic site: a narrowed aortic valve",
+    ("outflow", "systolic", "pulmonic"): "at the pulmonic site: a narrowed pulmonary valve",
+    ("leak", "systolic", "mitral"): "at the mitral site: mitral regurgitation",
+    ("leak", "systolic", "tricuspid"): "at the tricuspid site: tricuspid regurgitation "
+                                       "or a septal defect",
+    ("leak", "diastolic", "aortic"): "aortic regurgitation",
+    ("leak", "diastolic", "pulmonic"): "aortic or pulmonary regurgitation",
+    ("leak", "diastolic", "tricuspid"): "aortic regurgitation heard at the left sternal edge",
+    ("inflow", "diastolic", "mitral"): "at the mitral site: a narrowed mitral valve",
+    ("inflow", "diastolic", "tricuspid"): "at the tricuspid site: a narrowed tricuspid valve",
+    ("shunt", "continuous", None): "such as an open arterial duct or an arteriovenous "
+                                   "connection",
+}
+_VESSEL_SITES = ("carotid", "femoral", "renal", "fistula")
+
+
+def label(name: str, pattern: str | None = None, *, phase: str | None = None,
+          site: str | None = None) -> str:
+    """Plain-words label of a mechanism; the orifice label follows pattern and site."""
+    if name != "narrowed_orifice" or pattern not in _ORIFICE_LABELS:
+        return LABELS[name]
+    if site in _VESSEL_SITES and pattern in ("outflow", "shunt"):
+        return f"a fast jet through a narrowed {site} artery or access (a bruit)"
+    text = _ORIFICE_LABELS[pattern]
+    lesion = _LESIONS.get((pattern, phase, site)) or _LESIONS.get((pattern, phase, None))
+    return f"{text} ({lesion})" if lesion else text
 
 
 DISCRIMINATORS = {
@@ -83,7 +106,8 @@ def physics_text(name: str, numbers: Mapping[str, Mapping], *, pattern: str | No
         text = (f"The Reynolds number Re = 4 rho Q / (pi D mu) grows in proportion to flow: "
                 f"at a cardiac output of {_v(n, 'cardiac_output_l_min')} L/min peak Re in the "
                 f"{lumen} is about {_v(n, 'reynolds_number_peak')}, against "
-                f"{_v(n, 'reynolds_number_normal')} at rest with normal blood. More flow "
+                f"{_v(n, 'reynolds_number_normal')} for a resting adult with normal blood and "
+                "lumen. More flow "
                 "through a normal valve drives ejection further past the point where "
                 "disturbances die out, so brief turbulence at peak ejection makes a soft, "
                 "early-peaking murmur of low pitch, near the "
@@ -105,29 +129,42 @@ def physics_text(name: str, numbers: Mapping[str, Mapping], *, pattern: str | No
                      "candidate rests on the sound alone.")
         return text
     if name == "narrowed_orifice":
-        jet = (f"{_v(n, 'dominant_frequency_hz')} Hz through a {_v(n, 'orifice_diameter_mm')} "
-               f"mm orifice implies a jet of about {_v(n, 'jet_velocity_m_s')} m/s (Strouhal "
-               f"scaling), a peak pressure drop of about {_v(n, 'pressure_drop_mmhg')} mmHg "
-               f"(Bernoulli) and a jet Reynolds number near {_v(n, 'jet_reynolds_number')}")
+        drop = ("" if "driving_pressure_mmhg" in n else
+                f", a pressure drop of {_v(n, 'pressure_drop_mmhg')} mmHg (Bernoulli)")
+        how = " (Bernoulli)" if "driving_pressure_mmhg" in n else ""
+        jet = (f"a jet of about {_v(n, 'jet_velocity_m_s')} m/s{how} through a "
+               f"{_v(n, 'orifice_diameter_mm')} mm orifice{drop} and a jet Reynolds number "
+               f"near {_v(n, 'jet_reynolds_number')}")
+        pitch = ""
+        if "pitch_velocity_m_s" in n:
+            f_b = float(n["break_frequency_hz"]["value"])
+            f_dom = float(n["dominant_frequency_hz"]["value"])
+            fits = ("fits below that jet's noise band, which reaches "
+                    f"{_v(n, 'break_frequency_hz')} Hz" if f_dom <= f_b else
+                    f"needs at least {_v(n, 'pitch_velocity_m_s')} m/s, so the orifice is "
+                    "probably smaller than assumed")
+            pitch = f" The heard {_v(n, 'dominant_frequency_hz')} Hz {fits} (Strouhal scaling)."
         if pattern == "leak":
             return ("A leak through an incompetent valve is driven by the pressure difference "
                     "between two chambers for as long as that difference lasts, so the "
-                    f"murmur fills its phase: {jet}. A small, fast jet breaks into "
-                    "turbulence where it enters the chamber, which sounds high-pitched and "
-                    "blowing.")
+                    f"murmur fills its phase; the usual {_v(n, 'driving_pressure_mmhg')} mmHg "
+                    f"gives {jet}." + pitch + " The small, fast jet turns turbulent where it "
+                    "enters the chamber, which sounds high-pitched and blowing.")
         if pattern == "inflow":
-            return ("Inflow through a narrowed valve is driven by a small pressure difference, "
-                    f"so the jet is slow and the murmur low-pitched: {jet}. The difference "
-                    "falls as the upstream chamber empties, and atrial contraction can "
-                    "boost it again just before S1.")
+            return ("Inflow through a narrowed valve is driven by a small pressure difference "
+                    f"(about {_v(n, 'driving_pressure_mmhg')} mmHg), so the jet is slow and the "
+                    f"murmur low-pitched: {jet}." + pitch + " The difference falls as the "
+                    "upstream chamber empties, and atrial contraction can boost it again "
+                    "just before S1.")
         if pattern == "shunt":
             return ("A shunt between a high- and a low-pressure vessel carries flow through "
-                    f"systole and diastole, so the murmur runs through S2: {jet}. The noise "
-                    "swells when the pressure difference is greatest, near S2.")
-        return ("A narrowed outflow valve or vessel forces the whole stroke volume through a "
-                f"small orifice, so the jet is fast: {jet}, far above the transition range. "
-                "The jet turns turbulent where it widens beyond the orifice, making a "
-                "crescendo-decrescendo murmur that peaks later the tighter the narrowing.")
+                    "systole and diastole, so the murmur runs through S2; about "
+                    f"{_v(n, 'driving_pressure_mmhg')} mmHg gives {jet}." + pitch)
+        return ("A narrowing that the whole flow must pass speeds it up by continuity "
+                f"(v = Q/A): at a peak flow of {_v(n, 'peak_flow_l_min')} L/min that is {jet}."
+                + pitch + " The jet turns turbulent where it widens beyond the orifice, "
+                "making a crescendo-decrescendo murmur that peaks later the tighter the "
+                "narrowing.")
     if name == "wall_irregularity":
         return ("Roughened or irregular walls and valve surfaces (sclerosis, calcification, "
                 "plaque) trip disturbances at Reynolds numbers at which smooth walls keep "
@@ -175,7 +212,7 @@ _KEY_NUMBERS = {
     "low_viscosity": ("hematocrit", "viscosity_mpa_s", "viscosity_factor",
                       "reynolds_number_peak"),
     "narrowed_orifice": ("orifice_diameter_mm", "jet_velocity_m_s", "pressure_drop_mmhg",
-                         "jet_reynolds_number"),
+                         "jet_reynolds_number", "break_frequency_hz", "pitch_velocity_m_s"),
     "wall_irregularity": ("reynolds_number_peak", "reynolds_ratio"),
     "no_flow_disturbance": ("reynolds_number_peak",),
 }
@@ -189,12 +226,13 @@ def _wrap(text: str, indent: str, width: int = 92) -> list[str]:
 
 
 def _mechanism_lines(m: Mechanism, *, full: bool) -> list[str]:
-    lines = [f"    {m.rank}. {m.label} [{m.name}]  score {m.score:.2f}"]
+    lines = _wrap(f"{m.rank}. {m.label} [{m.name}]  score {m.score:.2f}", "    ")
     if not full:
         return lines
     strong = [e for e in m.evidence if not e.startswith("prior")][:6]
     if strong:
-        lines += _wrap("Evidence: " + "; ".join(strong), "       ")
+        lines += _wrap("Evidence (log-odds, + for, - against): " + "; ".join(strong),
+                       "       ")
     lines += _wrap("Physics: " + m.physics, "       ")
     nums = _num_line(m.numbers, _KEY_NUMBERS.get(m.name, ()))
     if nums:
@@ -224,7 +262,7 @@ def render_text(explanation: Explanation, *, detail: int = 2) -> str:
     out = ["Likely physical mechanisms (decision support, not a diagnosis)"]
     top = explanation.top()
     if top is not None:
-        out.append(f"  Overall: {top.label} [{top.name}], score {top.score:.2f}")
+        out += _wrap(f"Overall: {top.label} [{top.name}], score {top.score:.2f}", "  ")
     if not explanation.per_finding:
         for m in explanation.overall:
             out += _mechanism_lines(m, full=True)
