@@ -38,7 +38,7 @@ TIMING_THIRDS = (1.0 / 3.0, 2.0 / 3.0)
 #: anchoring "softer than S1/S2 / about as loud / louder than S1/S2" with grades
 #: IV-VI reserved for a palpable thrill (Keren R et al., "Evaluation of a novel
 #: method for grading heart murmur intensity", Arch Pediatr Adolesc Med 2005;
-#: from memory). Level of the murmur re the mean S1/S2 level in dB: below
+#: from memory). Level of the murmur re the louder of S1 and S2, in dB: below
 #: ``faint`` -> I; faint..softer -> I-II; softer..louder -> II-III (about equal);
 #: above ``louder`` -> III. The dB edges are our own reading of "about equal"
 #: (+/- 4 dB, about the just-noticeable loudness step for a trained listener is

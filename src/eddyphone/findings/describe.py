@@ -69,6 +69,13 @@ def describe(x: np.ndarray, fs: float, segmentation, *, quality=None,
     prof = beat_profiles(spec, beats, cfg)
     search = find_murmurs(spec, prof, cfg)
     extras = find_extra_sounds(x, fs, beats, cfg)
+    if any(m.phase in ("diastolic", "continuous") for m in search.murmurs):
+        # S3 and S4 cannot be told from a diastolic murmur's own swells (an inflow
+        # murmur's presystolic accent looks like S4): not reported then
+        from dataclasses import replace
+
+        extras = tuple(replace(e, id=f"x{i + 1}") for i, e in enumerate(
+            e for e in extras if e.kind not in ("S3", "S4")))
 
     measures = _beat_measures(prof, search, len(beats_all))
     n = prof.n_beats
@@ -102,7 +109,7 @@ def describe(x: np.ndarray, fs: float, segmentation, *, quality=None,
 def _beat_measures(prof, search, n_all: int) -> tuple[BeatMeasures, ...]:
     out = []
     R = prof.ratio
-    hs = 0.5 * (prof.s1_power.sum(axis=1) + prof.s2_power.sum(axis=1))
+    hs = np.maximum(prof.s1_power.sum(axis=1), prof.s2_power.sum(axis=1))
     for i in range(prof.n_beats):
         s1 = 10 * np.log10(max(prof.s1_power[i].sum(), 1e-30))
         s2 = 10 * np.log10(max(prof.s2_power[i].sum(), 1e-30))

@@ -39,6 +39,17 @@ WINDOW_TOLERANCE_S = 0.02
 EVENT_DB = 6.0
 #: ... and be separated from the neighbouring sound by a dip this deep (dB).
 DIP_DB = 3.0
+#: An opening snap is higher-pitched than A2 (snaps 100-300 Hz per
+#: ``physiology.SNAP_BAND_HZ``, S2 40-200 Hz); its centroid must reach this
+#: multiple of A2's (our own margin), which keeps P2 out.
+SNAP_PITCH_RATIO = 1.3
+#: An ejection click is higher-pitched than S1 (clicks 100-300 Hz, S1 25-140 Hz per
+#: ``physiology``); its centroid must reach this multiple of S1's (our own margin).
+CLICK_PITCH_RATIO = 1.5
+#: Clicks and snaps last 10-30 ms (common practice, from memory): their envelope
+#: must fall SHORT_FALL_DB within SHORT_FALL_S of the peak (a murmur onset does not).
+SHORT_FALL_S = 0.03
+SHORT_FALL_DB = 6.0
 #: Fraction of usable beats that must show an extra sound for it to be reported.
 MIN_FRACTION = 0.5
 #: Minimum resolvable A2-P2 interval (s): closer components fuse (common practice,
@@ -46,6 +57,18 @@ MIN_FRACTION = 0.5
 MIN_SPLIT_S = 0.02
 #: A2-P2 spread (10th-90th percentile, s) at or above which the split "varies".
 SPLIT_VARIES_S = 0.015
+
+
+def _centroid_hz(x: np.ndarray, fs: float, t: float, frame_s: float = 0.024) -> float:
+    """Spectral centroid (25-600 Hz) of a short Hann frame centred at ``t``."""
+    n = max(16, int(round(frame_s * fs)))
+    i0 = int(round(t * fs)) - n // 2
+    if i0 < 0 or i0 + n > len(x):
+        return float("nan")
+    p = np.abs(np.fft.rfft(x[i0:i0 + n] * np.hanning(n), 4 * n)) ** 2
+    f = np.fft.rfftfreq(4 * n, 1.0 / fs)
+    sel = (f >= 25.0) & (f <= 600.0)
+    return float(np.sum(f[sel] * p[sel]) / max(np.sum(p[sel]), 1e-30))
 
 
 def band_envelope(x: np.ndarray, fs: float, band_hz: tuple[float, float],
@@ -74,7 +97,8 @@ def _db(a: float, b: float) -> float:
 
 
 def _event(env: np.ndarray, rate: float, win: tuple[float, float], ref: float,
-           anchor: tuple[float, float]) -> tuple[float, float] | None:
+           anchor: tuple[float, float], fall_s: float = 0.04, fall_db: float = DIP_DB
+           ) -> tuple[float, float] | None:
     """Largest peak in ``win`` that stands EVENT_DB over ``ref`` and is separated by a
     DIP_DB dip from the anchor sound (searched in ``anchor``). Returns (peak time s,
     onset time s) or None."""
@@ -97,8 +121,8 @@ def _event(env: np.ndarray, rate: float, win: tuple[float, float], ref: float,
     if len(between) < 3 or _db(peak, float(between.min())) < DIP_DB:
         return None
     # fall after the peak too (a distinct event, not a rising murmur)
-    after, _ = _seg(env, rate, tp, tp + 0.04)
-    if len(after) > 2 and _db(peak, float(after.min())) < DIP_DB:
+    after, _ = _seg(env, rate, tp, tp + fall_s)
+    if len(after) > 2 and _db(peak, float(after.min())) < fall_db:
         return None
     before = env[max(i0 + k - int(0.06 * rate), 0): i0 + k + 1]
     half = np.flatnonzero(before < 0.5 * peak)
@@ -185,24 +209,27 @@ def find_extra_sounds(x: np.ndarray, fs: float, beats: Sequence,
                 hits["S4"].append(1000.0 * (s1n - ev[1]))
         # ejection click: 60-100 ms after S1 onset, physiology.EJECTION_CLICK_AFTER_S1_S
         lo, hi = phy.EJECTION_CLICK_AFTER_S1_S
-        win = (bt.s1_onset_s + lo - tol, min(bt.s1_onset_s + hi + 0.02 + tol, s2 - 0.03))
+        win = (bt.s1_onset_s + lo, min(bt.s1_onset_s + hi + 0.02 + tol, s2 - 0.03))
         if win[1] - win[0] > 0.02:
-            ev = _event(high, rate, win, q_high, (bt.s1_onset_s, bt.s1_onset_s + lo - tol))
+            ev = _event(high, rate, win, q_high, (bt.s1_onset_s, bt.s1_onset_s + lo - tol),
+                        fall_s=SHORT_FALL_S, fall_db=SHORT_FALL_DB)
             if ev is not None:
-                hits["ejection_click"].append(1000.0 * (ev[1] - bt.s1_onset_s))
+                s1_t = bt.s1_onset_s + float(np.argmax(
+                    _seg(mid, rate, bt.s1_onset_s, bt.s1_onset_s + 0.05)[0])) / rate
+                if _centroid_hz(x, fs, ev[0]) >= CLICK_PITCH_RATIO * _centroid_hz(x, fs, s1_t):
+                    hits["ejection_click"].append(1000.0 * (ev[1] - bt.s1_onset_s))
         # opening snap: 40-120 ms after A2, physiology.OPENING_SNAP_AFTER_A2_S; high
         # pitched, so it must stand out in the high band more than A2 itself does
         lo, hi = phy.OPENING_SNAP_AFTER_A2_S
         win = (s2 + lo + 0.01, min(s2 + hi + tol, s1n - 0.08))
         if win[1] - win[0] > 0.02:
-            ev = _event(high, rate, win, q_high, (s2 - 0.005, s2 + 0.03))
+            ev = _event(high, rate, win, q_high, (s2 - 0.005, s2 + 0.03),
+                        fall_s=SHORT_FALL_S, fall_db=SHORT_FALL_DB)
             if ev is not None:
-                a2_high = float(_seg(high, rate, s2 - 0.005, s2 + 0.03)[0].max(initial=0.0))
-                a2_mid = float(_seg(mid, rate, s2 - 0.005, s2 + 0.03)[0].max(initial=0.0))
-                ev_high = float(high[min(int(round(ev[0] * rate)), len(high) - 1)])
-                ev_mid = float(mid[min(int(round(ev[0] * rate)), len(mid) - 1)])
-                # higher-pitched than A2: its high/mid ratio exceeds A2's
-                if _db(ev_high / max(ev_mid, 1e-30), a2_high / max(a2_mid, 1e-30)) > 0.0:
+                a2_t = s2 + float(np.argmax(_seg(mid, rate, s2 - 0.005, s2 + 0.04)[0])) / rate
+                # higher-pitched than A2 (simulated and textbook snaps are): its
+                # centroid at least SNAP_PITCH_RATIO times that of A2
+                if _centroid_hz(x, fs, ev[0]) >= SNAP_PITCH_RATIO * _centroid_hz(x, fs, a2_t):
                     hits["opening_snap"].append(1000.0 * (ev[1] - s2))
         sp = _split_s2(mid, rate, bt)
         if sp is not None:

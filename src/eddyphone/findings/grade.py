@@ -22,7 +22,7 @@ def grade_range(level_db_re_heart_sounds: float,
     Parameters
     ----------
     level_db_re_heart_sounds : float
-        Murmur peak level minus the mean S1/S2 level of the same beats, in dB.
+        Murmur peak level minus the level of the louder of S1 and S2 of the same beats, in dB.
     anchors_db : dict, optional
         ``faint``, ``softer`` and ``louder`` edges (default
         :data:`eddyphone.findings.config.GRADE_ANCHORS_DB`).

@@ -40,6 +40,11 @@ from eddyphone.findings.records import GRADE_NOTE, Murmur
 
 PHASES = ("systolic", "diastolic")
 
+#: Lowest dominant frequency (Hz) at which a murmur can be called musical: the
+#: 32-ms analysis frames resolve about 31 Hz, so a tone is only distinguishable from
+#: a noise band when its peak is several bins wide apart (our own limit).
+MIN_TONAL_HZ = 150.0
+
 
 def timing_word(onset_fraction: float, end_fraction: float) -> str:
     """Timing word from where the murmur starts and ends in its window (0-1).
@@ -109,20 +114,25 @@ def pitch_word(centroid_hz: float, boundaries_hz: tuple[float, float] = PITCH_BO
 
 
 def quality_words(*, pitch: str, tonality: float, relative_spread: float, roughness: float,
-                  tonal_threshold: float) -> tuple[str, ...]:
+                  tonal_threshold: float, dominant_hz: float = float("inf"),
+                  phase: str = "diastolic") -> tuple[str, ...]:
     """Descriptive words from spectral and envelope measures.
 
     ``musical`` when most excess energy sits in one narrow peak (tonality at or above
-    ``tonal_threshold``); otherwise ``rumbling`` when low-pitched; ``harsh`` when the
+    ``tonal_threshold``) at or above :data:`MIN_TONAL_HZ` (below it the 32-ms frames
+    cannot tell a tone from a narrow noise band); otherwise ``rumbling`` when
+    low-pitched and diastolic (the trade keeps the word for diastolic murmurs); ``harsh`` when the
     spectrum is broad (spread at least 0.45 of the centroid) with a rough envelope
     (roughness at least 0.3), ``blowing`` when smoother. Our own rules on the usual
     meanings: musical = tonal, rumbling = low and noisy, harsh = broad and rough,
     blowing = smooth and higher-pitched.
     """
-    if tonality >= tonal_threshold:
+    if tonality >= tonal_threshold and dominant_hz >= MIN_TONAL_HZ:
         return ("musical",)
-    if pitch == "low":
+    if pitch == "low" and phase == "diastolic":
         return ("rumbling",)
+    if pitch == "low":
+        return ("blowing",)
     if relative_spread >= 0.45 and roughness >= 0.3:
         return ("harsh",)
     return ("blowing",)
@@ -206,7 +216,11 @@ def _candidates(M: np.ndarray, X: np.ndarray, dur_s: np.ndarray, cfg: FindingsCo
             continue
         prof = X[w, s:e]
         sustained_s = int(np.sum(prof >= 0.25 * prof.max())) * bin_s
-        low_only = max(bands) <= 1  # nothing above 150 Hz: like S3, S4 or a sound tail
+        # bands that carry it (within 15 dB of its strongest band); nothing above
+        # 150 Hz means it sounds like S3, S4 or a sound tail
+        peak_b = M[w][bands][:, s:e].max(axis=1)
+        bands = [b for b, pk in zip(bands, peak_b) if pk >= peak_b.max() - 15.0]
+        low_only = max(bands) <= 1
         need = (min(cfg.min_low_murmur_s, 0.5 * dur_s[w]) if low_only
                 else min(cfg.min_sustained_s, 0.25 * dur_s[w]))
         if sustained_s < need:
@@ -333,13 +347,18 @@ def find_murmurs(spec: Spectrogram, prof: Profiles, config: FindingsConfig) -> M
     # excess power over each beat's own noise level, all bands: (beats, 2, bins)
     noise_beat = prof.reference * ref_rec[None, :]
     excess_beats = np.clip(prof.power - noise_beat[:, None, :, None], 0.0, None).sum(axis=2)
-    hs_power = 0.5 * (prof.s1_power.sum(axis=1) + prof.s2_power.sum(axis=1))  # per beat
+    # reference: the louder of S1 and S2 in each beat (S1 dominates at the apex, S2
+    # at the base, so this reference travels across sites)
+    hs_power = np.maximum(prof.s1_power.sum(axis=1), prof.s2_power.sum(axis=1))
+    s1_power = prof.s1_power.sum(axis=1)
     murmurs: list[Murmur] = []
     flags: dict[str, np.ndarray] = {}
     beat_db: dict[str, np.ndarray] = {}
     # continuous: a systolic murmur running into S2 and a diastolic one leaving it
     by_w = {c.window: c for c in cands}
-    continuous = (SYS in by_w and DIA in by_w and by_w[SYS].k1 >= n_bins - 1
+    shared = set(by_w[SYS].bands) & set(by_w[DIA].bands) if (SYS in by_w and DIA in by_w) \
+        else set()
+    continuous = (bool(shared) and max(shared) >= 2 and by_w[SYS].k1 >= n_bins - 1
                   and by_w[DIA].k0 <= 1)
     for c in cands:
         bands = list(c.bands)
@@ -382,13 +401,16 @@ def find_murmurs(spec: Spectrogram, prof: Profiles, config: FindingsConfig) -> M
         peak_pow = excess_beats[use][:, c.window, c.k0:c.k1].max(axis=1)
         level = 10.0 * np.log10(max(float(np.median(peak_pow)), 1e-30)
                                 / max(float(np.median(hs_power[use])), 1e-30))
+        level_s1 = 10.0 * np.log10(max(float(np.median(peak_pow)), 1e-30)
+                                   / max(float(np.median(s1_power[use])), 1e-30))
         sp = _spectral(spec, prof, use, c.window, c.k0, c.k1, quiet, n_bins, fs)
         rough = _roughness(spec, prof, use, c.window, c.k0, c.k1, c.bands, n_bins)
         centroid = sp["centroid_hz"]
         pitch = pitch_word(centroid) if np.isfinite(centroid) else "medium"
         rel_spread = sp["spread"] / centroid if np.isfinite(centroid) and centroid > 0 else 0.0
         words = quality_words(pitch=pitch, tonality=sp["tonality"], relative_spread=rel_spread,
-                              roughness=rough, tonal_threshold=cfg.tonal_threshold)
+                              roughness=rough, tonal_threshold=cfg.tonal_threshold,
+                              dominant_hz=sp["dominant_hz"], phase=name)
         band_e = {}
         tot = float(sp["excess"].sum())
         for lo, hi in spec.bands_hz:
@@ -416,7 +438,7 @@ def find_murmurs(spec: Spectrogram, prof: Profiles, config: FindingsConfig) -> M
             grade_note=GRADE_NOTE, level_db_re_heart_sounds=level, peak_fraction=peak_frac,
             beats_with_murmur=int(shows.sum()), beats_used=n_beats,
             profile=tuple(float(v) for v in full), spectrum=band_e,
-            tonality=sp["tonality"], snr_db=snr))
+            tonality=sp["tonality"], snr_db=snr, level_db_re_s1=level_s1))
     if continuous and len(murmurs) == 2 and all(m.presence == "present" for m in murmurs):
         murmurs = [_merge_continuous(murmurs[0], murmurs[1])]
     murmurs.sort(key=lambda m: (m.presence != "present", -m.level_db_re_heart_sounds))

@@ -59,14 +59,21 @@ class Murmur:
         Lowest and highest plausible grade on I-VI, never above III from sound alone.
     grade_note : str
     level_db_re_heart_sounds : float
-        Murmur level (median over beats) relative to the mean level of S1 and S2.
+        Murmur peak level (median over beats) relative to the louder of S1 and S2
+        of the same beats.
     peak_fraction : float
         0-1 position of peak energy within its window.
     beats_with_murmur, beats_used : int
     profile : tuple of float
         Mean normalised envelope across the window (peak 1).
     spectrum : mapping str -> float
-        Fraction of murmur energy per analysis band (keys like ``'100-200_hz'``).
+        Fraction of murmur energy per analysis band (keys like ``'150-300_hz'``).
+    tonality : float
+        0 (noise-like) to 1 (a pure tone): share of excess energy in its peak.
+    snr_db : float
+        Peak excess over the quiet parts of the cycle (beat-averaged), dB.
+    level_db_re_s1 : float
+        Murmur peak level relative to S1 alone (used to compare sites).
     """
 
     id: str
@@ -92,6 +99,7 @@ class Murmur:
     spectrum: Mapping[str, float] = field(default_factory=dict)
     tonality: float = 0.0
     snr_db: float = 0.0
+    level_db_re_s1: float = float("nan")
 
     @property
     def grade_text(self) -> str:
@@ -135,6 +143,7 @@ class Murmur:
             "grade_note": self.grade_note,
             "level_db_re_heart_sounds": _r(self.level_db_re_heart_sounds, 1),
             "snr_db": _r(self.snr_db, 1),
+            "level_db_re_s1": _r(self.level_db_re_s1, 1),
             "tonality": _r(self.tonality),
             "peak_fraction": _r(self.peak_fraction),
             "beats_with_murmur": int(self.beats_with_murmur),
@@ -193,8 +202,8 @@ class ExtraSound:
 class BeatMeasures:
     """Per-beat window measures (see :mod:`eddyphone.findings.measures`).
 
-    Levels are dB relative to the mean of this beat's S1 and S2 power; ``*_snr_db``
-    relative to the recording's noise floor. NaN where a window is missing.
+    Levels are dB relative to the louder of this beat's S1 and S2; ``*_snr_db`` is
+    the loudest bin relative to the beat's quiet level. NaN where a window is missing.
     """
 
     beat: int

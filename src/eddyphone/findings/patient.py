@@ -1,0 +1,213 @@
+"""Patient view: several recordings of one patient at different auscultation sites.
+
+Recordings are peak-normalised one by one, so absolute levels cannot be compared
+across them; a murmur's loudness at each site is taken relative to S1 of that same
+recording (``Murmur.level_db_re_s1``; S1 is heard at every site, and a recording's
+own S1 cancels its gain and most of its device response). Murmurs are matched
+across sites by phase (systolic, diastolic, continuous).
+
+Public names
+------------
+summarise_patient(analyses, *, patient_id=None) -> PatientSummary
+PatientSummary, PatientMurmur
+"""
+
+from __future__ import annotations
+
+from collections.abc import Iterable, Mapping
+from dataclasses import dataclass, field
+from typing import Any
+
+from eddyphone.errors import InputError
+from eddyphone.findings.records import Findings, Murmur
+
+
+@dataclass(frozen=True)
+class PatientMurmur:
+    """One murmur across the sites of a patient.
+
+    Attributes
+    ----------
+    phase : str
+    loudest_site : str
+    level_db_by_site : mapping site -> float
+        Level re the same recording's S1 where it was heard.
+    heard_at, not_heard_at : tuple of str
+        Sites where it was present or uncertain / where it was absent.
+    spread : str
+        How it spreads, in words (e.g. 'loudest at the aortic area, 4 dB softer at
+        the pulmonic area, not heard at the mitral area').
+    description : str
+        The loudest site's description.
+    murmur : Murmur
+        The loudest site's murmur.
+    """
+
+    phase: str
+    loudest_site: str
+    level_db_by_site: Mapping[str, float]
+    heard_at: tuple[str, ...]
+    not_heard_at: tuple[str, ...]
+    spread: str
+    description: str
+    murmur: Murmur
+
+    def to_dict(self) -> dict[str, Any]:
+        """JSON-ready values."""
+        return {"phase": self.phase, "loudest_site": self.loudest_site,
+                "level_db_re_s1_by_site": {k: round(v, 1) for k, v in
+                                                     self.level_db_by_site.items()},
+                "heard_at": list(self.heard_at), "not_heard_at": list(self.not_heard_at),
+                "spread": self.spread, "description": self.description,
+                "loudest_finding": self.murmur.to_dict()}
+
+
+@dataclass(frozen=True)
+class PatientSummary:
+    """Patient-level summary over recordings at several sites.
+
+    Attributes
+    ----------
+    patient_id : str or None
+    sites : tuple of str
+        Site of each recording, in input order.
+    presence : {'present', 'absent', 'uncertain'}
+    murmurs : tuple of PatientMurmur
+        Loudest first.
+    extra_sounds : mapping kind -> tuple of sites
+    summary : str
+        One paragraph in the trade's words.
+    per_site : mapping site -> dict
+        Each recording's ``Findings.summary_dict()``.
+    """
+
+    patient_id: str | None
+    sites: tuple[str, ...]
+    presence: str
+    murmurs: tuple[PatientMurmur, ...]
+    extra_sounds: Mapping[str, tuple[str, ...]] = field(default_factory=dict)
+    summary: str = ""
+    per_site: Mapping[str, dict] = field(default_factory=dict)
+
+    def to_dict(self) -> dict[str, Any]:
+        """JSON-ready values (the patient-level part of the output)."""
+        return {"patient_id": self.patient_id, "sites": list(self.sites),
+                "presence": self.presence,
+                "murmurs": [m.to_dict() for m in self.murmurs],
+                "extra_sounds": {k: list(v) for k, v in self.extra_sounds.items()},
+                "summary": self.summary,
+                "per_site": dict(self.per_site)}
+
+
+def _site_of(item: Any, i: int) -> str:
+    for obj in (getattr(item, "context", None), getattr(item, "recording", None)):
+        site = getattr(obj, "site", None)
+        if site:
+            return str(site)
+    return f"recording {i + 1}"
+
+
+def _pairs(analyses: Any) -> list[tuple[str, Findings]]:
+    if isinstance(analyses, Mapping):
+        items = list(analyses.items())
+    else:
+        items = []
+        for i, a in enumerate(analyses):
+            if isinstance(a, tuple) and len(a) == 2:
+                items.append((str(a[0]), a[1]))
+            elif hasattr(a, "findings"):
+                items.append((_site_of(a, i), a.findings))
+            else:
+                raise InputError(None, f"item {i} of the patient's recordings is a "
+                                 f"{type(a).__name__}",
+                                 "pass Analysis objects, (site, Findings) pairs or a "
+                                 "{site: Findings} mapping")
+    out = []
+    seen: dict[str, int] = {}
+    for site, f in items:
+        if f is None:
+            continue
+        n = seen.get(site, 0)
+        seen[site] = n + 1
+        out.append((site if n == 0 else f"{site} ({n + 1})", f))
+    return out
+
+
+def _area(site: str) -> str:
+    known = ("aortic", "pulmonic", "tricuspid", "mitral")
+    return f"the {site} area" if site in known else site
+
+
+def summarise_patient(analyses: Iterable | Mapping, *, patient_id: str | None = None
+                      ) -> PatientSummary:
+    """Combine one patient's recordings from several sites.
+
+    Parameters
+    ----------
+    analyses : iterable or mapping
+        :class:`eddyphone.pipeline.Analysis` objects (site from the context or the
+        recording), ``(site, Findings)`` pairs, or a ``{site: Findings}`` mapping.
+    patient_id : str, optional
+
+    Returns
+    -------
+    PatientSummary
+    """
+    pairs = _pairs(analyses)
+    if not pairs:
+        raise InputError(None, "no recordings with findings were given for the patient",
+                         "pass at least one analysed recording")
+    sites = tuple(s for s, _ in pairs)
+    murmurs: list[PatientMurmur] = []
+    for phase in ("systolic", "diastolic", "continuous"):
+        at = {s: f for s, f in pairs}
+        found = {s: next((m for m in f.murmurs if m.phase == phase), None)
+                 for s, f in at.items()}
+        heard = {s: m for s, m in found.items() if m is not None}
+        if not any(m.presence == "present" for m in heard.values()):
+            continue
+        levels = {s: float(m.level_db_re_s1) for s, m in heard.items()}
+        loud = max(heard, key=lambda s: (heard[s].presence == "present", levels[s]))
+        others = sorted((s for s in heard if s != loud), key=lambda s: -levels[s])
+        not_heard = tuple(s for s in sites if s not in heard)
+        parts = [f"loudest at {_area(loud)}"]
+        for s in others:
+            d = levels[loud] - levels[s]
+            parts.append(f"{d:.0f} dB softer at {_area(s)}" if d >= 1.0
+                         else f"about as loud at {_area(s)}")
+        if not_heard:
+            parts.append("not heard at " + ", ".join(_area(s) for s in not_heard))
+        murmurs.append(PatientMurmur(
+            phase=phase, loudest_site=loud, level_db_by_site=levels,
+            heard_at=tuple([loud] + others), not_heard_at=not_heard,
+            spread="; ".join(parts), description=heard[loud].describe(),
+            murmur=heard[loud]))
+    murmurs.sort(key=lambda m: -m.level_db_by_site[m.loudest_site])
+    presences = [f.presence for _, f in pairs]
+    if murmurs:
+        presence = "present"
+    elif all(p == "absent" for p in presences):
+        presence = "absent"
+    else:
+        presence = "uncertain"
+    extras: dict[str, list[str]] = {}
+    for s, f in pairs:
+        for e in f.extra_sounds:
+            extras.setdefault(e.kind, []).append(s)
+    if murmurs:
+        text = " ".join(f"{m.description[0].upper()}{m.description[1:]}; {m.spread}."
+                        for m in murmurs)
+    elif presence == "absent":
+        text = f"No murmur at {', '.join(_area(s) for s in sites)}."
+    else:
+        unc = [s for s, f in pairs if f.presence == "uncertain"]
+        text = ("No murmur called with confidence; possible murmur or unreadable "
+                f"recording at {', '.join(_area(s) for s in unc)}.")
+    if extras:
+        text += " Extra sounds: " + "; ".join(
+            f"{k} at {', '.join(_area(s) for s in v)}" for k, v in extras.items()) + "."
+    return PatientSummary(patient_id=patient_id, sites=sites, presence=presence,
+                          murmurs=tuple(murmurs),
+                          extra_sounds={k: tuple(v) for k, v in extras.items()},
+                          summary=text,
+                          per_site={s: f.summary_dict() for s, f in pairs})
