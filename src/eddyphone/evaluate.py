@@ -214,8 +214,8 @@ def evaluate_events(reference: Sequence[Interval], detected: Sequence[Interval],
         Labels scored.
     within_reference : bool
         Score only detections whose centre lies inside the annotated span (first
-        reference start to last reference end, widened by the tolerance): sounds
-        outside what an annotator marked are neither right nor wrong.
+        reference start to last reference end): sounds outside what an annotator
+        marked are neither right nor wrong.
 
     Returns
     -------
@@ -233,8 +233,8 @@ def evaluate_events(reference: Sequence[Interval], detected: Sequence[Interval],
         raise ParameterError(f"tolerance_ms={tolerance_ms!r} must be a non-negative number")
     tol = tolerance_ms / 1000.0
     if within_reference and reference:
-        lo = min(s for s, _, _ in reference) - tol
-        hi = max(e for _, e, _ in reference) + tol
+        lo = min(s for s, _, _ in reference)
+        hi = max(e for _, e, _ in reference)
         detected = [d for d in detected if lo <= 0.5 * (d[0] + d[1]) <= hi]
     scores: dict[str, EventScores] = {}
     errors = {}

@@ -209,17 +209,24 @@ def _intervals(starts: np.ndarray, states: np.ndarray, ffs: float
 
 
 def _swap_evidence(starts: np.ndarray, ends: np.ndarray, states: np.ndarray,
-                   tilt: np.ndarray, ffs: float) -> float:
+                   tilt: np.ndarray, ffs: float, loglik: np.ndarray | None = None) -> float:
     """Evidence (> 0) that the decoded S1/S2 labels are the right way round.
 
-    Three cues, each clipped to +/-3: timing (systole shorter than diastole by the
+    Four cues, each clipped to +/-3: timing (systole shorter than diastole by the
     margin the Weissler regression expects at this rate), stability (the systolic
-    interval varies less than the diastolic one when the rhythm varies) and pitch
-    (S2 is higher-pitched than S1, common practice).
+    interval varies less than the diastolic one when the rhythm varies), pitch
+    (S2 is higher-pitched than S1, common practice) and the emission model (log
+    likelihood of the labels against the mirrored labels, per beat).
     """
     sys, dia = _intervals(starts, states, ffs)
     if len(sys) < 2 or len(dia) < 2:
         return 0.0
+    emission = 0.0
+    if loglik is not None:
+        lab = np.repeat(states, ends - starts)
+        rows = np.arange(len(lab))
+        diff = float(np.sum(loglik[rows, lab]) - np.sum(loglik[rows, (lab + 2) % 4]))
+        emission = float(np.clip(diff / max(len(sys), 1), -3, 3))
     sys_m, dia_m = float(np.median(sys)), float(np.median(dia))
     hr = 60.0 / (sys_m + dia_m)
     from eddyphone.physiology import systolic_interval_s
@@ -240,7 +247,7 @@ def _swap_evidence(starts: np.ndarray, ends: np.ndarray, states: np.ndarray,
     pitch = 0.0
     if len(m1) and len(m2):
         pitch = float(np.clip((np.mean(m2) - np.mean(m1)) / 0.3, -3, 3))
-    return timing + stability + pitch
+    return timing + stability + pitch + emission
 
 
 def _refine(loglik, starts, states, est: HeartRateEstimate, ffs: float, cfg: SegmentConfig):
@@ -270,24 +277,23 @@ _PROBE_S = 8.0
 
 
 def _missed_fraction(starts: np.ndarray, ends: np.ndarray, states: np.ndarray,
-                     homo_rel: np.ndarray) -> float:
-    """Fraction of systoles and diastoles holding a peak nearly as loud as S1/S2.
+                     sound: np.ndarray) -> float:
+    """Fraction of systoles and diastoles holding a sound the model did not label.
 
     A rate that is half the true one leaves a whole S1-S2 pair inside each of its
-    diastoles; this measures that (``homo_rel`` is the relative log envelope).
+    diastoles. A gap "holds a sound" when at least 3 consecutive frames (60 ms at
+    50 Hz) inside it have P(sound) above 0.6.
     """
-    peaks, gaps = [], []
+    gaps = 0
+    hits = 0
     for s, e, k in zip(starts, ends, states, strict=True):
-        if e - s < 1:
+        if k in (0, 2) or e - s < 5:
             continue
-        if k in (0, 2):
-            peaks.append(float(np.max(homo_rel[s:e])))
-        elif e - s >= 4:
-            gaps.append(float(np.max(homo_rel[s + 1: e - 1])))
-    if len(peaks) < 2 or not gaps:
-        return 0.0
-    level = float(np.median(peaks))
-    return float(np.mean(np.asarray(gaps) > 0.6 * level))
+        gaps += 1
+        loud = sound[s + 1: e - 1] > 0.6
+        if len(loud) >= 3 and np.any(loud[:-2] & loud[1:-1] & loud[2:]):
+            hits += 1
+    return hits / gaps if gaps else 0.0
 
 
 def _hypotheses(cands: list[HeartRateEstimate], sound: np.ndarray, ffs: float,
@@ -321,7 +327,7 @@ def _decode_chunk(loglik: np.ndarray, homo: np.ndarray, tilt: np.ndarray, sound:
         # inside its silences (half the true rate) loses to one that does not.
         ld, ls = _tables(c.heart_rate_bpm, c.systolic_interval_s, sp, ffs, cfg)
         st, en, k, score = viterbi_cyclic(loglik[:n_probe], ld, ls)
-        key = (-round(_missed_fraction(st, en, k, homo_rel[:n_probe]) / 0.2), score)
+        key = (-round(_missed_fraction(st, en, k, sound[:n_probe]) / 0.2), score)
         if best_key is None or key > best_key:
             best_key, est, spread = key, c, sp
     ld, ls = _tables(est.heart_rate_bpm, est.systolic_interval_s, spread, ffs, cfg)
@@ -329,7 +335,7 @@ def _decode_chunk(loglik: np.ndarray, homo: np.ndarray, tilt: np.ndarray, sound:
     again = _refine(loglik, starts, states, est, ffs, cfg)
     if again is not None:
         starts, ends, states, _ = again
-    if _swap_evidence(starts, ends, states, tilt, ffs) < 0:
+    if _swap_evidence(starts, ends, states, tilt, ffs, loglik) < 0:
         # S1 <-> S2 and systole <-> diastole: the same boundaries, labels mirrored.
         states = (states + 2) % 4
     return _Decoded(starts, ends, states, est)
