@@ -422,3 +422,37 @@ def test_sample_audio_is_the_demo_set(tmp_path):
         assert np.max(np.abs(a.astype(int) - b.astype(int))) <= 2
     assert len(list(sample.glob("*.wav"))) == len(demo_specs())
     assert "synthetic" in (sample / "README.md").read_text().lower()
+
+
+def test_lung_sounds_follow_the_breath():
+    # crackles belong to inspiration, wheezes to expiration (common practice)
+    for kind, sign in (("crackles", 1), ("wheeze", -1)):
+        sim = generate(CaseSpec(adventitious=kind, adventitious_db=-6, duration_s=20, seed=6,
+                                **{**QUIET, "breathing": 0.3}))
+        events = sim.truth["noise"]["adventitious_events"]
+        assert events, kind
+        assert sim.truth["noise"]["levels_db_re_cardiac"]["lung"] is not None
+        beats = sim.truth["beats"]
+        # is the lung filling (inspiration) or emptying around each event? Lung volume
+        # is sampled once per beat in the truth; interpolate it
+        t_beat = np.array([b["s1_start_s"] for b in beats])
+        vol = np.array([b["lung_volume"] for b in beats])
+        mid = np.array([(a + b) / 2 for a, b, _ in events])
+        v_at = np.interp(mid, t_beat, vol)
+        dv = np.interp(mid + 0.3, t_beat, vol) - np.interp(mid - 0.3, t_beat, vol)
+        assert np.mean(np.sign(dv) == sign) > 0.6, kind
+        assert np.all(v_at >= -0.01)
+
+
+def test_device_ripple_and_gain_wander_are_bounded():
+    rng = np.random.default_rng(3)
+    ripple = chain.draw_ripple(3.0, rng)
+    f = np.geomspace(20, 2000, 300)
+    assert np.abs(chain.ripple_db(ripple, f)).max() == pytest.approx(3.0, abs=0.1)
+    assert chain.draw_ripple(0.0, rng) == ()
+    base = CaseSpec(seed=12, **QUIET)
+    calm = generate(base)
+    wavy = generate(base.with_(gain_wander_db=6.0))
+    env = [np.array([np.abs(s.parts["cardiac"][int(a * s.fs): int(b * s.fs)]).max()
+                     for a, b, lab in s.segments if lab == "S1"]) for s in (calm, wavy)]
+    assert np.ptp(20 * np.log10(env[1])) > np.ptp(20 * np.log10(env[0])) + 1.0

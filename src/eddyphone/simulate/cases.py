@@ -51,7 +51,7 @@ def demo_specs() -> dict[str, CaseSpec]:
                               hematocrit=0.44),
             note="Young runner just after a training run; soft flow murmur and S3"),
         "03_older_adult_outflow": base.with_(
-            heart_rate_bpm=74, site="aortic", device="steep_tilt", snr_db=22, breathing=0.3,
+            heart_rate_bpm=74, site="aortic", device="diaphragm", snr_db=22, breathing=0.3,
             s4=True, s2_split="single", seed=103,
             murmur=MurmurSpec(cause="narrowed_outflow", diameter_m=_d_from_area_cm2(0.8),
                               velocity_m_s=4.3),
@@ -72,7 +72,8 @@ def demo_specs() -> dict[str, CaseSpec]:
             speech=0.45, friction_per_min=14, hum_hz=50.0, hum_db=-12, seed=106,
             note="Normal heart recorded in a busy waiting room: speech, friction, mains hum"),
         "07_fast_irregular": base.with_(
-            heart_rate_bpm=128, rhythm="irregular", site="mitral", device="bell", snr_db=18,
+            heart_rate_bpm=128, rhythm="irregular", site="mitral", device="steep_tilt",
+            snr_db=18,
             breathing=0.3, seed=107,
             note="Palpitations; fast irregular rhythm, no murmur"),
         "08_diastolic_rumble": base.with_(
@@ -128,7 +129,8 @@ def benchmark_specs(n: int, *, seed: int = 0, duration_s: float = 15.0) -> list[
     shuffled); about a third of the cases have no murmur and the rest cycle through
     every murmur cause; sample rates 2, 3, 4 and 8 kHz; every device response; about
     one case in five is irregular; breathing everywhere, friction, hum and speech in
-    some, in normal and murmur cases alike.
+    some, in normal and murmur cases alike; lung crackles or wheezes in one in five;
+    unit-to-unit device ripple, slow gain wander and DC offsets.
 
     Parameters
     ----------
@@ -185,6 +187,13 @@ def benchmark_specs(n: int, *, seed: int = 0, duration_s: float = 15.0) -> list[
             peak_dbfs=float(rng.uniform(-12, -0.5)),
             overdrive_db=float(rng.choice([0.0] * 9 + [rng.uniform(1, 6)])),
             site=str(rng.choice(SITES)),
+            precordial_motion=float(rng.uniform(0.0, 1.5)),
+            respiratory_loudness=float(rng.uniform(0.0, 0.3)),
+            adventitious=str(rng.choice(["none"] * 8 + ["crackles", "wheeze"])),
+            adventitious_db=float(rng.uniform(-24, -6)),
+            device_ripple_db=float(rng.uniform(0.0, 3.0)),
+            gain_wander_db=float(rng.choice([0.0, 0.0, rng.uniform(1, 6)])),
+            dc_offset=float(rng.choice([0.0] * 4 + [rng.uniform(-0.02, 0.02)])),
             seed=int(seed * 100003 + i),
             note=f"benchmark case {i}",
         ))

@@ -115,11 +115,40 @@ def _preroll(x: np.ndarray, m: int) -> np.ndarray:
     return np.concatenate([head, x])
 
 
-def apply_device(x: np.ndarray, fs: float, device: str) -> np.ndarray:
-    """Filter ``x`` through the named device response (causal, minimum phase)."""
+def draw_ripple(amount_db: float, rng: np.random.Generator) -> tuple[tuple[float, float], ...]:
+    """Coefficients of a smooth unit-to-unit response ripple of about ``amount_db`` peak.
+
+    Real chest pieces of one model differ by a few dB; the ripple is a sum of four
+    cosines over log-frequency (20 Hz-2 kHz), scaled to ``amount_db`` peak.
+    """
+    if amount_db <= 0:
+        return ()
+    coef = [(rng.normal(), rng.uniform(0, 2 * np.pi)) for _ in range(4)]
+    grid = np.log2(np.geomspace(20, 2000, 200) / 20)
+    shape = sum(a * np.cos(np.pi * (k + 1) * grid / grid[-1] + ph)
+                for k, (a, ph) in enumerate(coef))
+    scale = amount_db / (np.abs(shape).max() + 1e-12)
+    return tuple((a * scale, ph) for a, ph in coef)
+
+
+def ripple_db(ripple: tuple, f_hz: np.ndarray) -> np.ndarray:
+    """Ripple in dB at ``f_hz`` from :func:`draw_ripple` coefficients (0 if none)."""
+    f = np.asarray(f_hz, dtype=float)
+    if not ripple:
+        return np.zeros_like(f)
+    top = np.log2(2000 / 20)
+    u = np.log2(np.clip(f, 20, 2000) / 20)
+    return sum(a * np.cos(np.pi * (k + 1) * u / top + ph) for k, (a, ph) in enumerate(ripple))
+
+
+def apply_device(x: np.ndarray, fs: float, device: str, *, ripple: tuple = ()) -> np.ndarray:
+    """Filter ``x`` through the named device response (causal, minimum phase).
+
+    ``ripple`` (from :func:`draw_ripple`) adds this unit's deviation from the model.
+    """
     n_fft = int(2 ** np.ceil(np.log2(fs)))  # ~1 Hz resolution
     f = np.fft.rfftfreq(n_fft, 1.0 / fs)
-    h = _minimum_phase_fir(device_gain_db(device, f), n_fft)
+    h = _minimum_phase_fir(device_gain_db(device, f) + ripple_db(ripple, f), n_fft)
     m = len(h)
     y = signal.fftconvolve(_preroll(x, m), h)
     k = min(m, len(x) - 1)
@@ -170,6 +199,49 @@ def breath_noise(n: int, fs: float, airflow: np.ndarray, rng: np.random.Generato
     a = a / (a.max() + 1e-12)
     level = np.where(airflow > 0, a, 0.35 * a) ** 1.5
     return y * level
+
+
+def adventitious_sounds(n: int, fs: float, kind: str, airflow: np.ndarray, breath_phase:
+                        np.ndarray, rng: np.random.Generator
+                        ) -> tuple[np.ndarray, list[tuple[float, float, str]]]:
+    """Lung sounds that are not breath noise, peak about 1, with their spans.
+
+    ``crackles``: short (3-15 ms) damped transients in runs during inspiration, like
+    fine and coarse crackles; ``wheeze``: a musical tone (150-700 Hz, gliding, with a
+    few harmonics) through most of each expiration. ``airflow`` and ``breath_phase``
+    are sampled at ``fs``.
+    """
+    y = np.zeros(n)
+    events: list[tuple[float, float, str]] = []
+    if kind == "none":
+        return y, events
+    if kind == "crackles":
+        inspiring = airflow > 0.3 * airflow.max()
+        idx = np.nonzero(inspiring)[0]
+        count = int(rng.poisson(max(len(idx) / fs, 0.0) * rng.uniform(3, 12)))
+        for i0 in np.sort(rng.choice(idx, size=min(count, len(idx)), replace=False)):
+            d = rng.uniform(0.003, 0.015)
+            m = max(int(d * fs), 4)
+            tt = np.arange(m) / fs
+            f = rng.uniform(100, min(900, 0.4 * fs))
+            burst = np.sin(2 * np.pi * f * tt + rng.uniform(0, 6)) * np.exp(-tt / (d / 3))
+            i1 = min(i0 + m, n)
+            y[i0:i1] += rng.uniform(0.3, 1.0) * burst[: i1 - i0]
+            events.append((i0 / fs, i1 / fs, "crackle"))
+    elif kind == "wheeze":
+        expiring = (airflow < -0.2 * np.abs(airflow).max())
+        f0 = rng.uniform(150, min(700, 0.3 * fs)) * (1 + 0.15 * np.sin(
+            2 * np.pi * breath_phase + rng.uniform(0, 6)))
+        ph = 2 * np.pi * np.cumsum(f0) / fs
+        tone = np.sin(ph) + 0.4 * np.sin(2 * ph) + 0.15 * np.sin(3 * ph)
+        env = signal.sosfiltfilt(signal.butter(1, 3.0, fs=fs, output="sos"),
+                                 expiring.astype(float))
+        y = tone * np.clip(env, 0, 1)
+        edges = np.diff(np.concatenate([[0], expiring.astype(int), [0]]))
+        for a, b in zip(np.nonzero(edges == 1)[0], np.nonzero(edges == -1)[0], strict=True):
+            if b - a > 0.1 * fs:
+                events.append((a / fs, b / fs, "wheeze"))
+    return y / (np.abs(y).max() + 1e-20), events
 
 
 def speech_noise(n: int, fs: float, rng: np.random.Generator, *, n_talkers: int = 2

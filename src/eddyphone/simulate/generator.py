@@ -5,6 +5,7 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 
 import numpy as np
+from scipy import signal
 
 from eddyphone import physiology
 from eddyphone._version import __version__
@@ -268,56 +269,83 @@ def generate(spec: CaseSpec, *, seed: int | None = None) -> Simulated:
                                      spec, site_db, s1_rms, sinus)
 
     # --- body, chest wall, device --------------------------------------------------
-    cardiac = chain.apply_device(chain.chest_wall(sounds + murmur, fs,
-                                                  spec.chest_wall_cutoff_hz), fs, spec.device)
-    murmur_dev = chain.apply_device(chain.chest_wall(murmur, fs, spec.chest_wall_cutoff_hz), fs,
-                                    spec.device) if plan is not None else np.zeros(n)
+    ripple = chain.draw_ripple(spec.device_ripple_db, r_noise)
+
+    def device(sig: np.ndarray, name: str = spec.device) -> np.ndarray:
+        return chain.apply_device(sig, fs, name, ripple=ripple)
+
+    cutoff = spec.chest_wall_cutoff_hz
+    cardiac = device(chain.chest_wall(sounds + murmur, fs, cutoff))
+    murmur_dev = device(chain.chest_wall(murmur, fs, cutoff)) if plan is not None else np.zeros(n)
     p_card = chain.band_power(cardiac, fs, SNR_BAND_HZ)
 
     t = np.arange(n) / fs
     airflow = breath.at(t, "airflow")
     slope = r_noise.uniform(0.5, 2.0)
     bg = chain.coloured_noise(n, fs, slope, r_noise)
-    br = chain.chest_wall(chain.breath_noise(n, fs, airflow, r_noise), fs,
-                          spec.chest_wall_cutoff_hz)
+    br = chain.chest_wall(chain.breath_noise(n, fs, airflow, r_noise), fs, cutoff)
     br /= br.std() + 1e-20
     sp = chain.speech_noise(n, fs, r_noise) if spec.speech > 0 else np.zeros(n)
     w_bg = max(0.1, 1.0 - spec.breathing - spec.speech)
-    acoustic = chain.apply_device(np.sqrt(w_bg) * bg + np.sqrt(spec.breathing) * br, fs,
-                                  spec.device)
-    # room speech reaches the sensor partly around the chest piece (airborne leak)
-    leak = chain.apply_device(sp, fs, "phone") * 0.5 + chain.apply_device(sp, fs, spec.device)
-    sensor = r_noise.standard_normal(n) * 1e-3
-    stationary = acoustic + np.sqrt(spec.speech) * leak + sensor * np.sqrt(
-        chain.band_power(acoustic, fs, SNR_BAND_HZ) + 1e-20)
-    p_noise = chain.band_power(stationary, fs, SNR_BAND_HZ)
-    stationary *= np.sqrt(p_card / max(p_noise, 1e-30) * 10 ** (-spec.snr_db / 10))
+    # stationary noise: body and room background and breath sounds through the chest
+    # piece; room speech also leaks in around it (airborne, phone-like band)
+    comp = {
+        "background": device(np.sqrt(w_bg) * bg),
+        "breathing": device(np.sqrt(spec.breathing) * br),
+        "speech": np.sqrt(spec.speech) * (device(sp) + 0.5 * device(sp, "phone")),
+    }
+    stationary = comp["background"] + comp["breathing"] + comp["speech"]
+    stationary += r_noise.standard_normal(n) * 1e-3 * np.sqrt(
+        chain.band_power(stationary, fs, SNR_BAND_HZ) + 1e-30)
+    scale = np.sqrt(p_card / max(chain.band_power(stationary, fs, SNR_BAND_HZ), 1e-30)
+                    * 10 ** (-spec.snr_db / 10))
+    stationary *= scale
+    comp = {k: v * scale for k, v in comp.items()}
+    peak_sounds = np.abs(device(sounds)).max()
     fr_events: list = []
-    friction = np.zeros(n)
+    comp["friction"] = np.zeros(n)
     if spec.friction_per_min > 0:
         fr, fr_events = chain.friction_bursts(n, fs, spec.friction_per_min, r_noise)
         if fr_events:
-            fr = chain.apply_device(fr, fs, spec.device)
-            peak_c = np.abs(cardiac).max()
-            friction = fr / (np.abs(fr).max() + 1e-20) * peak_c * r_noise.uniform(1.0, 4.0)
-    mains = np.zeros(n)
+            fr = device(fr)
+            comp["friction"] = (fr / (np.abs(fr).max() + 1e-20) * np.abs(cardiac).max()
+                                * r_noise.uniform(1.0, 4.0))
+    comp["hum"] = np.zeros(n)
     if spec.hum_hz:
-        mains = chain.hum(n, fs, spec.hum_hz, r_noise) * np.sqrt(p_card) * 10 ** (spec.hum_db / 20)
-    motion = np.zeros(n)
+        comp["hum"] = chain.hum(n, fs, spec.hum_hz, r_noise) * np.sqrt(p_card) * 10 ** (
+            spec.hum_db / 20)
+    comp["motion"] = np.zeros(n)
     if spec.precordial_motion > 0:
         raw = _precordial_motion(beat_rows, n, fs, sinus)
-        motion = chain.apply_device(raw, fs, spec.device)
-        motion *= spec.precordial_motion * np.abs(
-            chain.apply_device(sounds, fs, spec.device)).max() / (np.abs(raw).max() + 1e-20)
-    noise = stationary + friction + mains + motion
+        raw *= spec.precordial_motion * np.abs(sounds).max() / (np.abs(raw).max() + 1e-20)
+        comp["motion"] = device(raw)
+    comp["lung"] = np.zeros(n)
+    lung_events: list = []
+    if spec.adventitious != "none":
+        lung, lung_events = chain.adventitious_sounds(n, fs, spec.adventitious, airflow,
+                                                      breath.at(t, "phase"), r_noise)
+        lung = device(chain.chest_wall(lung, fs, cutoff))
+        comp["lung"] = (lung / (np.abs(lung).max() + 1e-20) * peak_sounds
+                        * 10 ** (spec.adventitious_db / 20))
+    noise = stationary + comp["friction"] + comp["hum"] + comp["motion"] + comp["lung"]
     y = cardiac + noise
+    levels_db = {k: _db(chain.band_power(v, fs, SNR_BAND_HZ) / p_card) if np.any(v) else None
+                 for k, v in comp.items()}
 
-    # --- gain, clipping, quantisation -----------------------------------------------
+    # --- gain, wander, offset, clipping, quantisation --------------------------------
+    wander = np.ones(n)
+    if spec.gain_wander_db > 0:
+        slow = chain.coloured_noise(n, fs, 0.0, r_noise)
+        slow = signal.sosfiltfilt(signal.butter(2, 0.3, fs=fs, output="sos"), slow)
+        slow /= np.abs(slow).max() + 1e-20
+        wander = 10 ** (spec.gain_wander_db * slow / 20)
+    y = y * wander
     peak = np.abs(y).max()
     gain = 10 ** (spec.peak_dbfs / 20) / peak * 10 ** (spec.overdrive_db / 20)
-    y *= gain
+    y = y * gain + spec.dc_offset
     clipped = float(np.mean(np.abs(y) >= 1.0))
     x = chain.quantise(y, spec.bit_depth)
+    gain = gain * wander
 
     # --- segments covering whole cycles inside the recording ------------------------
     segments: list[tuple[float, float, str]] = []
@@ -361,15 +389,19 @@ def generate(spec: CaseSpec, *, seed: int | None = None) -> Simulated:
         "murmur": murmur_truth,
         "noise": {
             "snr_db": achieved, "snr_band_hz": list(SNR_BAND_HZ),
-            "snr_with_friction_and_hum_db": _db(p_card / chain.band_power(noise, fs,
-                                                                           SNR_BAND_HZ)),
+            "snr_all_noise_db": _db(p_card / chain.band_power(noise, fs, SNR_BAND_HZ)),
             "background_slope": slope, "breathing_weight": spec.breathing,
             "speech_weight": spec.speech,
             "hum_hz": spec.hum_hz, "hum_db_re_cardiac": spec.hum_db if spec.hum_hz else None,
             "friction_bursts": [[a, b, k] for a, b, k in fr_events],
+            "adventitious": spec.adventitious,
+            "adventitious_events": [[a, b, k] for a, b, k in lung_events],
+            "levels_db_re_cardiac": levels_db,
+            "gain_wander_db": spec.gain_wander_db, "dc_offset": spec.dc_offset,
             "precordial_motion": spec.precordial_motion,
         },
         "device": {"response": spec.device, "note": chain.DEVICE_NOTES[spec.device],
+                   "ripple_db": spec.device_ripple_db,
                    "chest_wall_cutoff_hz": spec.chest_wall_cutoff_hz},
     }
     parts = {"cardiac": cardiac * gain, "murmur": murmur_dev * gain, "noise": noise * gain}

@@ -26,6 +26,8 @@ RHYTHMS = ("sinus", "irregular")
 
 S2_SPLITS = ("physiological", "fixed", "single")
 
+ADVENTITIOUS = ("none", "crackles", "wheeze")
+
 
 @dataclass(frozen=True)
 class MurmurSpec:
@@ -129,6 +131,16 @@ class CaseSpec:
     respiratory_loudness : float
         Fraction by which heart sounds soften at full inspiration (more lung between
         heart and chest piece).
+    adventitious : {'none', 'crackles', 'wheeze'}
+        Lung sounds added to the breath noise.
+    adventitious_db : float
+        Their peak level relative to the peak of the heart sounds, dB.
+    device_ripple_db : float
+        Peak deviation of this chest piece from its model's response, dB.
+    gain_wander_db : float
+        Peak slow change of gain (chest-piece pressure, automatic gain), dB.
+    dc_offset : float
+        Constant offset added before quantisation, full-scale units.
     hum_hz : float or None
         Mains frequency (50 or 60) or None.
     hum_db : float
@@ -168,6 +180,11 @@ class CaseSpec:
     friction_per_min: float = 0.0
     precordial_motion: float = 0.3
     respiratory_loudness: float = 0.15
+    adventitious: str = "none"
+    adventitious_db: float = -12.0
+    device_ripple_db: float = 0.0
+    gain_wander_db: float = 0.0
+    dc_offset: float = 0.0
     hum_hz: float | None = None
     hum_db: float = -30.0
     peak_dbfs: float = -1.0
@@ -196,6 +213,11 @@ class CaseSpec:
             (0.0 <= self.friction_per_min <= 120.0, "friction_per_min", "0-120"),
             (0.0 <= self.precordial_motion <= 5.0, "precordial_motion", "0-5"),
             (0.0 <= self.respiratory_loudness <= 0.6, "respiratory_loudness", "0-0.6"),
+            (self.adventitious in ADVENTITIOUS, "adventitious", f"one of {ADVENTITIOUS}"),
+            (-40.0 <= self.adventitious_db <= 10.0, "adventitious_db", "-40-10 dB"),
+            (0.0 <= self.device_ripple_db <= 10.0, "device_ripple_db", "0-10 dB"),
+            (0.0 <= self.gain_wander_db <= 12.0, "gain_wander_db", "0-12 dB"),
+            (-0.2 <= self.dc_offset <= 0.2, "dc_offset", "-0.2-0.2"),
             (self.hum_hz is None or 40.0 <= self.hum_hz <= 70.0, "hum_hz",
              "None, 50 or 60 Hz"),
             (-60.0 <= self.peak_dbfs <= 0.0, "peak_dbfs", "-60-0 dBFS"),
