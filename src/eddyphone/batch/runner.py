@@ -184,8 +184,9 @@ def run_cluster(tasks: Sequence[Mapping[str, Any]], scheduler: str,
     except ImportError:
         raise InputError(None, "--scheduler needs the Dask distributed package",
                          "install eddyphone with its 'cluster' extra") from None
+    _check_reachable(scheduler)
     try:
-        client = Client(scheduler, timeout="10s", set_as_default=False)
+        client = Client(scheduler, timeout="20s", set_as_default=False)
     except (OSError, TimeoutError) as exc:
         raise InputError(scheduler, f"cannot reach the Dask scheduler ({exc})",
                          "check the address (tcp://host:port) and that the scheduler runs"
@@ -208,6 +209,24 @@ def run_cluster(tasks: Sequence[Mapping[str, Any]], scheduler: str,
             future.release()
     finally:
         client.close()
+
+
+def _check_reachable(scheduler: str) -> None:
+    """Fail at once on a refused ``tcp://host:port`` instead of retrying until a timeout."""
+    import socket
+    from urllib.parse import urlsplit
+
+    from eddyphone.errors import InputError
+
+    parts = urlsplit(scheduler if "://" in scheduler else f"tcp://{scheduler}")
+    if parts.scheme != "tcp" or not parts.hostname or not parts.port:
+        return  # other transports: let the client judge
+    try:
+        socket.create_connection((parts.hostname, parts.port), timeout=5.0).close()
+    except OSError as exc:
+        raise InputError(scheduler, f"cannot reach the Dask scheduler ({exc.strerror or exc})",
+                         "check the address (tcp://host:port) and that the scheduler runs"
+                         ) from None
 
 
 class Progress:
