@@ -552,7 +552,7 @@ def murmur_figure(analysis: Any, murmur: Any):
         start, end = {"systolic": ("S1 end", "S2 start"), "diastolic": ("S2 end", "next S1"),
                       "continuous": ("S1", "next S1")}.get(murmur.phase, ("start", "end"))
         ax.set_xlabel(f"position in window, % ({start} → {end})")
-        ax.set_ylabel("envelope (relative to its peak)")
+        ax.set_ylabel("envelope (1 = its peak)")
         ax.set_title(f"{murmur.id}: {timing_phase(murmur)} {getattr(murmur, 'shape', '')}",
                      fontsize=9, pad=12)
         if mean_ms:

@@ -91,7 +91,8 @@ class _Pages:
         chars = max(8, int(width_in / per_char))
         lines: list[str] = []
         for para in str(s).split("\n"):
-            lines.extend(textwrap.wrap(para, chars, break_long_words=True) or [""])
+            lines.extend(textwrap.wrap(para, chars, break_long_words=True,
+                                       break_on_hyphens=False) or [""])
         return lines
 
     # flowing content

@@ -1,0 +1,193 @@
+"""Reports: the output contract, a self-contained HTML file, the PDF pages, the figures."""
+
+from __future__ import annotations
+
+import base64
+import io
+import json
+import re
+import shutil
+import subprocess
+import sys
+
+import numpy as np
+import pytest
+import soundfile as sf
+from _report_data import MURMUR_CASE
+
+import eddyphone
+from eddyphone.cautions import GENERAL_CAUTIONS
+from eddyphone.report import figures as figs
+from eddyphone.report import write_report
+from eddyphone.report.pdf import write_pdf
+
+
+def _cli(*args: str) -> subprocess.CompletedProcess:
+    return subprocess.run([sys.executable, "-m", "eddyphone.cli", *args], capture_output=True,
+                          text=True, timeout=900)
+
+
+@pytest.fixture(scope="module")
+def analysis():
+    return eddyphone.analyze(MURMUR_CASE)
+
+
+@pytest.fixture(scope="module")
+def report(analysis, tmp_path_factory):
+    out = tmp_path_factory.mktemp("report")
+    return out, write_report(analysis, out, stem=analysis.recording.stem)
+
+
+def test_analyze_command_writes_the_contract_files(tmp_path):
+    result = _cli("analyze", str(MURMUR_CASE), "--out", str(tmp_path))
+    assert result.returncode == 0, result.stderr
+    stem = MURMUR_CASE.stem
+    for suffix in (".json", ".segments.csv", ".beats.csv", ".report.html", ".report.pdf",
+                   ".overview.png", ".spectrogram.png", ".ensemble.png", ".mechanisms.png"):
+        path = tmp_path / f"{stem}{suffix}"
+        assert path.exists() and path.stat().st_size > 0, suffix
+    data = json.loads((tmp_path / f"{stem}.json").read_text())
+    # A figure per murmur the JSON lists.
+    for finding in data["findings"]:
+        if finding["kind"] == "murmur":
+            assert (tmp_path / f"{stem}.murmur-{finding['id']}.png").exists()
+    # PNG signature (ISO/IEC 15948) on every figure.
+    for png in tmp_path.glob(f"{stem}.*.png"):
+        assert png.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
+
+
+def test_html_is_self_contained(report):
+    out, paths = report
+    html = paths["html"].read_text(encoding="utf-8")
+    # Nothing is fetched: no src/href to a network address, no external stylesheet or script.
+    assert not re.search(r"""(src|href)\s*=\s*["']?(https?:)?//""", html)
+    assert "<script" not in html and "<link" not in html
+    assert html.count('class="figure"') >= 4
+
+
+def test_embedded_audio_is_the_recording(report, analysis):
+    _, paths = report
+    html = paths["html"].read_text(encoding="utf-8")
+    match = re.search(r'id="recording-audio"[^>]*src="data:audio/wav;base64,([^"]+)"', html)
+    assert match
+    y, fs = sf.read(io.BytesIO(base64.b64decode(match.group(1))))
+    assert fs == 8000
+    assert len(y) / fs == pytest.approx(analysis.recording.duration_s, abs=0.01)
+    # Same sound: correlate with the recording resampled to 8 kHz by scipy.
+    from scipy.signal import resample_poly
+
+    ref = resample_poly(analysis.recording.x, 2, 1)
+    n = min(len(ref), len(y))
+    assert np.corrcoef(ref[:n], y[:n])[0, 1] > 0.99
+
+
+def test_html_says_the_findings_mechanisms_quality_and_cautions(report, analysis):
+    _, paths = report
+    html = paths["html"].read_text(encoding="utf-8")
+    from html import escape
+
+    summary = analysis.summary()
+    assert escape(summary["murmur_description"]) in html
+    assert escape(analysis.explanation.top().label) in html
+    for caution in GENERAL_CAUTIONS:
+        assert escape(caution) in html
+    assert eddyphone.__version__ in html and analysis.config.digest() in html
+    assert "Recording quality" in html and "Show the" in html  # quality and beats sections
+    for name in ("slowed-0.5x", "murmur-only", "heart-sounds-only", "beat-loop"):
+        assert f"{analysis.recording.stem}.teach.{name}.wav" in html  # renders linked
+
+
+def _pdf_pages(path, tmp_path):
+    if shutil.which("pdftoppm") is None:
+        pytest.fail("pdftoppm (poppler-utils) is needed; .ci/run installs it")
+    subprocess.run(["pdftoppm", "-r", "40", "-png", str(path), str(tmp_path / "page")],
+                   check=True, timeout=120)
+    return sorted(tmp_path.glob("page-*.png"))
+
+
+def _pdf_text(path) -> str:
+    return subprocess.run(["pdftotext", "-layout", str(path), "-"], capture_output=True,
+                          text=True, check=True, timeout=120).stdout
+
+
+def test_pdf_has_a4_pages_with_the_content(report, analysis, tmp_path):
+    _, paths = report
+    pages = _pdf_pages(paths["pdf"], tmp_path)
+    # Summary and findings, the cycle figures, mechanisms, quality, beats and cautions:
+    # at least four pages, and every page rendered by poppler is A4 (210 x 297 mm).
+    assert len(pages) >= 4
+    info = subprocess.run(["pdfinfo", str(paths["pdf"])], capture_output=True, text=True,
+                          check=True).stdout
+    assert int(re.search(r"Pages:\s+(\d+)", info).group(1)) == len(pages)
+    w, h = map(float, re.search(r"Page size:\s+([\d.]+) x ([\d.]+) pts", info).groups())
+    assert (w, h) == pytest.approx((595.3, 841.9), abs=1.0)  # A4 in points (ISO 216)
+    import matplotlib.image as mpimg
+
+    for page in pages:  # every page carries ink, none is blank
+        img = mpimg.imread(page)
+        assert (img[..., :3].mean(axis=2) < 0.5).mean() > 0.002
+    text = " ".join(_pdf_text(paths["pdf"]).split())
+    for words in ("Summary", "Findings", "Likely mechanisms", "Cautions", "Provenance",
+                  analysis.explanation.top().label, "palpable thrill"):
+        assert " ".join(words.split()) in text, words
+
+
+def test_pdf_pages_grow_with_the_content(analysis, tmp_path):
+    # A murmur case with figures and five ranked mechanisms needs more pages than the same
+    # analysis without figures; nothing is cut to fit.
+    (tmp_path / "a").mkdir()
+    (tmp_path / "b").mkdir()
+    bare = write_pdf(analysis, tmp_path / "bare.pdf", figures={})
+    full = write_pdf(analysis, tmp_path / "full.pdf",
+                     figures={k: _png(f) for k, f in figs.all_figures(analysis).items()})
+    n_bare = len(_pdf_pages(bare, tmp_path / "a"))
+    n_full = len(_pdf_pages(full, tmp_path / "b"))
+    assert n_full > n_bare >= 2
+    bare_text = " ".join(_pdf_text(bare).split())
+    assert analysis.summary()["murmur_description"] in bare_text
+
+
+def _png(fig) -> bytes:
+    buffer = io.BytesIO()
+    with figs.styled():
+        fig.savefig(buffer, format="png", dpi=80)
+    return buffer.getvalue()
+
+
+def test_figures_have_units_on_every_axis(analysis):
+    # Every labelled axis names its unit in brackets (or is a percentage or a 0-1 score);
+    # beat-number axes count beats and need none.
+    unit = re.compile(r"\((s|ms|Hz|dB)\b[^)]*\)|\(.*=.*\)|%|score|\(conditioned")
+    checked = 0
+    for name, fig in figs.all_figures(analysis).items():
+        for ax in fig.axes:
+            for label in (ax.get_xlabel(), ax.get_ylabel()):
+                if not label or "beat" in label:
+                    continue
+                checked += 1
+                assert unit.search(label), (name, label)
+    assert checked >= 10
+
+
+def test_ensemble_rows_align_every_beat_on_its_s1(analysis):
+    img, t, beats = figs.ensemble_matrix(analysis)
+    assert img.shape == (len(beats), len(t)) and len(beats) == len(analysis.segmentation.beats)
+    # 0 dB is the median S1 peak: the S1 columns hold the loudest energy of each row.
+    s1 = (t >= 0) & (t <= 0.12)
+    assert np.nanmedian(np.nanmax(img[:, s1], axis=1)) == pytest.approx(0.0, abs=0.5)
+    # Blank (NaN) after the next S1 onset, never before it (past the first 10 ms frame).
+    for row, b in zip(img, beats):
+        if b.rr_s is not None:
+            assert np.all(np.isnan(row[t > b.rr_s + 1e-9]))
+            assert not np.any(np.isnan(row[(t >= 0.01) & (t < b.rr_s - 0.01)]))
+
+
+def test_report_without_findings_or_explanation_says_so(analysis, tmp_path):
+    from dataclasses import replace
+
+    bare = replace(analysis, findings=None, explanation=None)
+    paths = write_report(bare, tmp_path, stem="bare", teaching=False)
+    html = paths["html"].read_text(encoding="utf-8")
+    assert "did not run for this report" in html
+    assert "mechanisms" not in {k.removeprefix("figure_") for k in paths}
+    assert _pdf_text(paths["pdf"]).count("did not run") >= 2
