@@ -126,10 +126,21 @@ def site_rows(analyses: Sequence[Any], out_dir: Path | None = None
 
 
 def _summary_facts(summary: Any) -> list[tuple[str, str]]:
+    """Facts of a PatientSummary (or any mapping of simple values) in words."""
     if summary is None:
         return []
+    out: list[tuple[str, str]] = []
+    murmurs = getattr(summary, "murmurs", None)
+    if murmurs is not None:
+        out.append(("Murmur", str(getattr(summary, "presence", "—"))))
+        for m in murmurs:
+            out.append((f"{m.phase.capitalize()} murmur", f"{m.description}; {m.spread}"))
+        for kind, sites in (getattr(summary, "extra_sounds", {}) or {}).items():
+            out.append((f"{kind.replace('_', ' ')}", "heard at " + ", ".join(sites)))
+        if getattr(summary, "summary", ""):
+            out.append(("In words", summary.summary))
+        return out
     data = summary.to_dict() if hasattr(summary, "to_dict") else dict(summary)
-    out = []
     for k, v in data.items():
         if isinstance(v, (str, int, float)) or v is None:
             out.append((k.replace("_", " "), "—" if v is None else str(v)))

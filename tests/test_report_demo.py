@@ -1,0 +1,97 @@
+"""`eddyphone demo` and the patient report, as a user meets them."""
+
+from __future__ import annotations
+
+import re
+import shutil
+import subprocess
+import sys
+
+import pytest
+from _report_data import MURMUR_CASE, SAMPLE_AUDIO
+
+import eddyphone
+from eddyphone.io import load
+from eddyphone.report import write_patient_report
+from eddyphone.report.demo import find_sample_audio, new_folder
+
+TWO_CASES = ("03_older_adult_outflow.wav", "05_systolic_leak.wav")
+
+
+def _demo(cwd, *args: str) -> subprocess.CompletedProcess:
+    return subprocess.run([sys.executable, "-m", "eddyphone.cli", "demo", *args], cwd=cwd,
+                          capture_output=True, text=True, timeout=900)
+
+
+@pytest.fixture(scope="module")
+def small_set(tmp_path_factory):
+    """Two bundled recordings with the matching rows of the bundled index.csv."""
+    folder = tmp_path_factory.mktemp("recordings")
+    lines = (SAMPLE_AUDIO / "index.csv").read_text().splitlines()
+    keep = [lines[0]] + [ln for ln in lines[1:] if ln.split(",")[1] in TWO_CASES]
+    (folder / "index.csv").write_text("\n".join(keep) + "\n")
+    for name in TWO_CASES:
+        shutil.copy(SAMPLE_AUDIO / name, folder / name)
+    return folder
+
+
+def test_demo_writes_a_new_folder_each_time_and_links_every_report(small_set, tmp_path):
+    first = _demo(tmp_path, "--recordings", str(small_set))
+    assert first.returncode == 0, first.stderr
+    out = tmp_path / "eddyphone-demo"
+    index = out / "index.html"
+    assert str(index) in first.stdout
+    for name in TWO_CASES:
+        stem = name.removesuffix(".wav")
+        assert f"{stem}.report.html" in first.stdout
+        for suffix in (".json", ".segments.csv", ".beats.csv", ".report.html", ".report.pdf"):
+            assert (out / f"{stem}{suffix}").exists()
+    # Every link of the index points at a file that exists.
+    links = re.findall(r'href="([^"]+)"', index.read_text(encoding="utf-8"))
+    assert len(links) >= 4 and all((out / link).exists() for link in links)
+    assert "made with: narrowed outflow murmur" in index.read_text(encoding="utf-8")
+    before = {p.name: p.stat().st_mtime_ns for p in out.iterdir()}
+    second = _demo(tmp_path, "--recordings", str(small_set))
+    assert second.returncode == 0, second.stderr
+    assert (tmp_path / "eddyphone-demo-2" / "index.html").exists()
+    assert {p.name: p.stat().st_mtime_ns for p in out.iterdir()} == before  # untouched
+
+
+def test_demo_refuses_an_existing_out_folder(tmp_path):
+    (tmp_path / "taken").mkdir()
+    result = _demo(tmp_path, "--out", "taken")
+    assert result.returncode != 0
+    assert result.stderr.count("\n") == 1 and "already exists" in result.stderr
+    assert "Traceback" not in result.stderr
+
+
+def test_new_folder_never_reuses_one(tmp_path):
+    a = new_folder(tmp_path, "run")
+    b = new_folder(tmp_path, "run")
+    assert (a.name, b.name) == ("run", "run-2") and a.is_dir() and b.is_dir()
+
+
+def test_bundled_recordings_are_found():
+    assert find_sample_audio() == SAMPLE_AUDIO
+
+
+def test_patient_report_puts_sites_side_by_side(tmp_path):
+    from eddyphone.findings import summarise_patient
+
+    analyses = [eddyphone.analyze(load(SAMPLE_AUDIO / TWO_CASES[0], site="aortic",
+                                       patient="P-demo")),
+                eddyphone.analyze(load(MURMUR_CASE, site="mitral", patient="P-demo"))]
+    summary = summarise_patient(analyses)
+    paths = write_patient_report(summary, analyses, tmp_path)
+    html = paths["html"].read_text(encoding="utf-8")
+    assert "Patient P-demo" in html
+    # Examination order: aortic before mitral, in the table and in the figure.
+    assert html.index(">aortic<") < html.index(">mitral<")
+    for m in summary.murmurs:
+        assert m.spread.split(",")[0] in html
+    assert html.count('class="figure"') >= 1
+    pages = subprocess.run(["pdfinfo", str(paths["pdf"])], capture_output=True, text=True,
+                           check=True).stdout
+    assert int(re.search(r"Pages:\s+(\d+)", pages).group(1)) >= 1
+    with pytest.raises(eddyphone.errors.InputError, match="already exists"):
+        write_patient_report(summary, analyses, tmp_path)
