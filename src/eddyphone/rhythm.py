@@ -57,7 +57,9 @@ class Rhythm:
     Attributes
     ----------
     heart_rate_bpm : float
-        ``60 / rr_mean_s`` when beats were found, else the autocorrelation estimate.
+        ``60 / rr_mean_s`` when beats were found (in a steady rhythm an interval near
+        a multiple of the median counts as that many beats), else the
+        autocorrelation estimate.
     systolic_interval_s : float
         Median S1-onset to S2-onset interval.
     rr_s : tuple of float
@@ -152,15 +154,13 @@ def heart_rate_autocorrelation(env: np.ndarray, feature_fs: float, *, min_bpm: f
                                max_bpm: float = 200.0) -> HeartRateEstimate:
     """Heart rate and systolic interval from the autocorrelation of an envelope.
 
-    Candidate beat periods are the local maxima of the autocorrelation between
-    ``60 / max_bpm`` and ``60 / min_bpm``. Each is scored by its own height plus
-    half the mean height at the two lags where the S1-S2 cross peaks must lie for
-    that period (the systolic interval of the Weissler regression,
-    :func:`eddyphone.physiology.systolic_interval_s`, and the rest of the cycle).
-    A true period has both; its half (doubling) lacks them; its double (halving)
-    is lower because autocorrelation decays with lag. The systolic interval is
-    then the cross peak below the period nearest the regression value (the
-    autocorrelation cannot tell systole from diastole by itself).
+    The beat period is the highest local maximum of the autocorrelation between
+    ``60 / max_bpm`` and ``60 / min_bpm``, or half of it when the half-lag peak is
+    at least 0.7 as high and the autocorrelation also peaks where the S1-S2 cross
+    term of that shorter beat must lie (the systolic interval of the Weissler
+    regression, :func:`eddyphone.physiology.systolic_interval_s`). The systolic
+    interval is then the cross peak below the period nearest the regression value
+    (the autocorrelation cannot tell systole from diastole by itself).
 
     Parameters
     ----------
@@ -187,15 +187,21 @@ def heart_rate_autocorrelation(env: np.ndarray, feature_fs: float, *, min_bpm: f
         # No periodic structure: fall back to 75 bpm with zero confidence.
         hr = 75.0
         return HeartRateEstimate(hr, systolic_interval_s(hr)[0], 0.0)
-    best_score, best_lag = -np.inf, float(peaks[0])
-    for k in peaks:
-        lag = _peak_lag(ac, int(k))
-        hr = 60.0 * feature_fs / lag
-        sys_reg = systolic_interval_s(float(np.clip(hr, 20.0, 250.0)))[0] * feature_fs
-        cross = 0.5 * (_interp(ac, sys_reg) + _interp(ac, lag - sys_reg))
-        score = _interp(ac, lag) + 0.5 * cross
-        if score > best_score:
-            best_score, best_lag = score, lag
+    # The highest peak, unless half its lag is nearly as high and shows the S1-S2
+    # cross peaks a beat of that shorter period must have (then the highest peak
+    # was two beats).
+    k = int(peaks[np.argmax(ac[peaks])])
+    best_lag = _peak_lag(ac, k)
+    half = best_lag / 2.0
+    if half >= lo and _interp(ac, half) >= 0.7 * ac[k]:
+        near = peaks[np.abs(peaks - half) <= max(1.5, 0.08 * half)]
+        if len(near):
+            h_lag = _peak_lag(ac, int(near[np.argmax(ac[near])]))
+            h_hr = 60.0 * feature_fs / h_lag
+            sys_h = systolic_interval_s(float(np.clip(h_hr, 20.0, 250.0)))[0] * feature_fs
+            cross = max(_interp(ac, sys_h), _interp(ac, h_lag - sys_h))
+            if cross >= 0.3:
+                best_lag = h_lag
     hr = 60.0 * feature_fs / best_lag
     sys_reg_s = systolic_interval_s(float(np.clip(hr, 20.0, 250.0)))[0]
     sys_s = _systole_from_ac(ac, feature_fs, best_lag, sys_reg_s)
@@ -313,6 +319,13 @@ def rhythm_from_beats(s1_onsets_s: np.ndarray, rr_s: np.ndarray, systoles_s: np.
     sys_s = float(np.median(systoles_s)) if len(systoles_s) else estimate.systolic_interval_s
     if len(rr) >= 2 and mean:
         hr = 60.0 / mean
+        # In a steady rhythm an interval near twice the median hides a missed beat:
+        # count it as that many beats for the rate (the RR series is kept as found).
+        med = float(np.median(rr))
+        steady = rr[rr <= 1.5 * med]
+        if len(steady) >= 3 and np.std(steady) / np.mean(steady) < 0.08:
+            n_beats = np.where(rr > 1.7 * med, np.round(rr / med), 1.0)
+            hr = 60.0 * float(np.sum(n_beats)) / float(np.sum(rr))
         agree = float(np.exp(-abs(hr - estimate.heart_rate_bpm) / 10.0))
         conf = float(np.clip(beat_confidence * (0.5 + 0.5 * max(agree, estimate.confidence)),
                              0.0, 1.0))

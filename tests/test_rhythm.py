@@ -1,0 +1,98 @@
+"""Tests of eddyphone.rhythm: heart rate over 40-200 bpm, RR statistics, irregularity."""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+from _clicks import click_train
+from scipy import stats
+
+from eddyphone.envelope import envelopes
+from eddyphone.errors import ParameterError
+from eddyphone.physiology import systolic_interval_s
+from eddyphone.rhythm import (
+    HeartRateEstimate,
+    envelope_autocorrelation,
+    heart_rate_autocorrelation,
+    period_candidates,
+    rhythm_from_beats,
+    rr_statistics,
+)
+
+
+def test_autocorrelation_matches_numpy():
+    rng = np.random.default_rng(0)
+    v = rng.normal(size=300)
+    ac = envelope_autocorrelation(v, max_lag=50)
+    # Reference: numpy.correlate of the mean-removed series, normalised at lag 0.
+    w = v - v.mean()
+    full = np.correlate(w, w, mode="full")[len(w) - 1:]
+    np.testing.assert_allclose(ac, full[:51] / full[0], atol=1e-12)
+
+
+@pytest.mark.parametrize("hr", [40.0, 55.0, 72.0, 100.0, 130.0, 160.0, 180.0, 200.0])
+def test_heart_rate_without_halving_or_doubling(hr):
+    x, _ = click_train(hr, duration_s=16.0, noise_rms=0.05, seed=int(hr))
+    env = envelopes(x, 4000.0)
+    est = heart_rate_autocorrelation(env.homomorphic, env.feature_fs)
+    assert est.heart_rate_bpm == pytest.approx(hr, abs=2.0)
+    assert 0.3 < est.confidence <= 1.0
+    # The true rate is among the candidates a decoder chooses from.
+    cands = period_candidates(env.homomorphic, env.feature_fs)
+    assert any(abs(c.heart_rate_bpm - hr) <= 2.0 for c in cands)
+
+
+def test_systolic_interval_near_the_click_train():
+    # Our click train puts S2 0.42 - 0.0017 HR s after S1 (at least 0.45 RR).
+    for hr in (60.0, 90.0):
+        x, segs = click_train(hr, duration_s=16.0, noise_rms=0.03, seed=5)
+        env = envelopes(x, 4000.0)
+        est = heart_rate_autocorrelation(env.homomorphic, env.feature_fs)
+        s1 = [a for a, _, lab in segs if lab == "S1"]
+        s2 = [a for a, _, lab in segs if lab == "S2"]
+        true_sys = float(np.median(np.array(s2) - np.array(s1[: len(s2)])))
+        assert est.systolic_interval_s == pytest.approx(true_sys, abs=0.03)
+
+
+def test_noise_gives_low_confidence():
+    rng = np.random.default_rng(7)
+    env = envelopes(rng.normal(size=60_000), 4000.0)
+    assert heart_rate_autocorrelation(env.homomorphic, env.feature_fs).confidence < 0.3
+
+
+def test_rr_statistics_against_scipy():
+    rr = np.array([0.8, 0.82, 0.79, 0.81, 0.8])
+    mean, cv, irregular = rr_statistics(rr)
+    assert mean == pytest.approx(np.mean(rr))
+    # Reference: scipy.stats.variation with the sample (n - 1) standard deviation.
+    assert cv == pytest.approx(stats.variation(rr, ddof=1))
+    assert not irregular
+    rng = np.random.default_rng(3)
+    af = rng.uniform(0.45, 1.15, 30)  # atrial-fibrillation-like spread
+    assert rr_statistics(af)[2]
+    assert rr_statistics(np.array([0.8])) == (0.8, None, False)
+
+
+def test_rhythm_from_beats_and_fallback():
+    est = HeartRateEstimate(70.0, 0.35, 0.8)
+    rr = np.full(10, 60.0 / 72.0)
+    r = rhythm_from_beats(np.zeros(11), rr, np.full(11, 0.34), est)
+    assert r.method == "beats"
+    assert r.heart_rate_bpm == pytest.approx(72.0)
+    assert r.systolic_interval_s == pytest.approx(0.34)
+    assert not r.irregular
+    d = r.to_dict()
+    assert d["rr_cv"] == 0.0 and len(d["rr_s"]) == 10
+    fb = rhythm_from_beats(np.zeros(1), np.array([]), np.array([]), est)
+    assert fb.method == "autocorrelation" and fb.heart_rate_bpm == 70.0
+
+
+def test_regression_band_used_is_weissler():
+    # The systolic interval the segmenter assumes follows the Weissler et al. 1968 QS2
+    # regression minus the Q-M1 delay: at 60 bpm 0.546 - 0.126 - 0.050 = 0.370 s.
+    assert systolic_interval_s(60.0)[0] == pytest.approx(0.370, abs=1e-9)
+
+
+def test_bad_range():
+    with pytest.raises(ParameterError, match="min_bpm"):
+        heart_rate_autocorrelation(np.ones(100), 50.0, min_bpm=200, max_bpm=40)

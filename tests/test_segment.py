@@ -1,0 +1,243 @@
+"""Tests of eddyphone.segment on synthetic recordings and against exhaustive search."""
+
+from __future__ import annotations
+
+import itertools
+import json
+
+import numpy as np
+import pytest
+from _clicks import click_train
+
+from eddyphone.condition import condition
+from eddyphone.errors import InputError, ParameterError
+from eddyphone.evaluate import evaluate_events
+from eddyphone.io.load import from_array
+from eddyphone.physiology import systolic_interval_s
+from eddyphone.quality import Quality, QualityMeasures, QualityWindow
+from eddyphone.segment import SegmentConfig, segment
+from eddyphone.segment.durations import duration_tables, state_durations
+from eddyphone.segment.hsmm import viterbi_cyclic
+from eddyphone.simulate import CaseSpec, MurmurSpec, generate
+
+# Seeds here are below 1000, disjoint from the training seeds (7000000 upwards).
+
+
+def _run(spec: CaseSpec, quality=None):
+    sim = generate(spec)
+    rec = from_array(sim.x, sim.fs)
+    cond = condition(rec.x, rec.fs)
+    seg = segment(cond.x, cond.fs, quality=quality)
+    return sim, seg
+
+
+def _f1(sim, seg) -> float:
+    ev = evaluate_events(sim.segments, seg.segment_rows(), tolerance_ms=60)
+    tp = sum(ev.scores[k].true_positives for k in ("S1", "S2"))
+    fp = sum(ev.scores[k].false_positives for k in ("S1", "S2"))
+    fn = sum(ev.scores[k].false_negatives for k in ("S1", "S2"))
+    return 2 * tp / (2 * tp + fp + fn)
+
+
+# --- the decoder against brute force ------------------------------------------------
+
+def _brute_force(e, ld, ls):
+    """Best cyclic segmentation by enumerating every start state and boundary set."""
+    n_frames, n = e.shape
+    best = -np.inf
+    for first in range(n):
+        for k in range(0, n_frames):
+            for cuts in itertools.combinations(range(1, n_frames), k):
+                bounds = (0, *cuts, n_frames)
+                score = -np.log(n)
+                for i, (a, b) in enumerate(itertools.pairwise(bounds)):
+                    j = (first + i) % n
+                    d = b - a
+                    if d >= ld.shape[1]:
+                        score = -np.inf
+                        break
+                    edge = i == 0 or i == len(bounds) - 2
+                    score += (ls[j, d] if edge else ld[j, d]) + e[a:b, j].sum()
+                best = max(best, score)
+    return best
+
+
+@pytest.mark.parametrize("seed", [0, 1, 2])
+def test_viterbi_matches_exhaustive_search(seed):
+    rng = np.random.default_rng(seed)
+    n_frames, n, dmax = 9, 4, 4
+    e = rng.normal(size=(n_frames, n))
+    mass = rng.uniform(0.1, 1.0, size=(n, dmax + 1))
+    mass[:, 0] = 0
+    mass[1, 1] = 0  # a state with a minimum duration of 2
+    mass /= mass.sum(axis=1, keepdims=True)
+    with np.errstate(divide="ignore"):
+        ld = np.log(mass)
+        ls = np.log(np.cumsum(mass[:, ::-1], axis=1)[:, ::-1])
+    ls[:, 0] = 0.0
+    starts, ends, states, score = viterbi_cyclic(e, ld, ls)
+    assert score == pytest.approx(_brute_force(e, ld, ls))
+    # The path is contiguous, covers every frame and follows the cycle.
+    assert starts[0] == 0 and ends[-1] == n_frames
+    np.testing.assert_array_equal(starts[1:], ends[:-1])
+    assert np.all(np.diff(states) % n == 1)
+
+
+def test_duration_tables_are_distributions():
+    laws = state_durations(70.0, systolic_interval_s(70.0)[0], s1_s=(0.122, 0.022),
+                           s2_s=(0.092, 0.022), systole_sd_s=0.025,
+                           diastole_sd_fraction=0.07, diastole_sd_floor_s=0.02)
+    ld, ls = duration_tables(laws, 50.0, floor_weight=0.03)
+    np.testing.assert_allclose(np.exp(ld).sum(axis=1), 1.0)
+    np.testing.assert_allclose(ls[:, 1], 0.0, atol=1e-12)  # P(D >= 1) = 1
+    # The S1 law peaks at the published mean (Schmidt et al. 2010: 122 ms = 6 frames).
+    assert int(np.argmax(ld[0])) == 6
+
+
+# --- facts of the trade on synthetic normal recordings -----------------------------
+
+@pytest.mark.parametrize("hr", [60.0, 72.0])
+def test_normal_rest_systole_shorter_and_in_weissler_band(hr):
+    sim, seg = _run(CaseSpec(heart_rate_bpm=hr, snr_db=25.0, rsa_swing_bpm=2.0, seed=31))
+    beats = [b for b in seg.beats if b.diastole_ms is not None]
+    assert len(beats) >= 10
+    systole = np.median([b.systole_ms for b in beats])
+    diastole = np.median([b.diastole_ms for b in beats])
+    # At rest systole is shorter than diastole (common practice).
+    assert systole < diastole
+    # S1 onset to S2 onset inside the Weissler et al. 1968 QS2 regression band
+    # (minus the Q-M1 delay): mean +/- 3 sd, widened by one 20-ms frame.
+    mean_s, sd_s = systolic_interval_s(seg.rhythm.heart_rate_bpm)
+    assert abs(systole / 1000.0 - mean_s) <= 3 * sd_s + 0.02
+    assert seg.rhythm.heart_rate_bpm == pytest.approx(sim.truth["rhythm"]["heart_rate_bpm"],
+                                                      abs=2.0)
+    assert not seg.rhythm.irregular
+    assert _f1(sim, seg) >= 0.98
+
+
+# --- hard cases ------------------------------------------------------------------------
+
+LOUD_LEAK = MurmurSpec(cause="systolic_leak", diameter_m=0.006, velocity_m_s=5.5)
+
+CASES = {
+    "irregular": {"rhythm": "irregular", "heart_rate_bpm": 85.0},
+    "tachycardia_180": {"heart_rate_bpm": 180.0},
+    "bradycardia_40": {"heart_rate_bpm": 40.0, "duration_s": 24.0},
+    "loud_holosystolic": {"murmur": LOUD_LEAK},
+    "s3": {"s3": True},
+}
+
+
+@pytest.mark.parametrize("name", sorted(CASES))
+def test_hard_cases_segment(name):
+    scores = []
+    for seed, device in ((41, "diaphragm"), (42, "bell"), (43, "flat")):
+        spec = CaseSpec(snr_db=20.0, seed=seed, device=device, **CASES[name])
+        sim, seg = _run(spec)
+        scores.append(_f1(sim, seg))
+        if name == "loud_holosystolic":
+            # The murmur really is loud: within 10 dB of S1 (simulator truth).
+            assert sim.truth["murmur"]["level_db_re_s1"] > -10.0
+        if name == "irregular":
+            assert seg.rhythm.irregular
+    assert min(scores) >= 0.9, scores
+
+
+def test_noise_types_and_devices_vary():
+    # Robustness across device responses and noise kinds, one recording each.
+    kinds = [dict(device="phone", speech=0.4), dict(device="steep_tilt", breathing=0.9),
+             dict(device="bell", friction_per_min=6.0), dict(device="diaphragm", hum_hz=50.0,
+                                                             hum_db=-10.0)]
+    for i, kw in enumerate(kinds):
+        sim, seg = _run(CaseSpec(snr_db=15.0, seed=60 + i, heart_rate_bpm=78.0, **kw))
+        assert _f1(sim, seg) >= 0.9, kw
+
+
+# --- outputs, skipping, long recordings ---------------------------------------------
+
+def _quality_with_bad_window(duration_s: float, bad: tuple[float, float]) -> Quality:
+    m = QualityMeasures(20.0, 0.6, 0.0, 0.0, None)
+    windows = []
+    t = 0.0
+    while t < duration_s - 1e-9:
+        end = min(t + 4.0, duration_s)
+        usable = not (t >= bad[0] and end <= bad[1])
+        windows.append(QualityWindow(t, end, 0.9 if usable else 0.1, usable,
+                                     () if usable else ("handling noise",), m))
+        t = end
+    return Quality(0.7, True, (), (), m, tuple(windows), 0.35)
+
+
+def test_unusable_windows_are_skipped_and_reported():
+    spec = CaseSpec(snr_db=25.0, duration_s=16.0, seed=71)
+    quality = _quality_with_bad_window(16.0, (4.0, 8.0))
+    sim, seg = _run(spec, quality=quality)
+    assert seg.skipped == ((4.0, 8.0, "unusable quality: handling noise"),)
+    assert all(s.end_s <= 4.0 + 1e-9 or s.start_s >= 8.0 - 1e-9 for s in seg.segments)
+    # Sounds outside the skipped window are still found.
+    kept = [r for r in sim.segments if r[1] <= 4.0 or r[0] >= 8.0]
+    assert _f1_rows(kept, seg) >= 0.95
+    # No beat spans the gap.
+    assert all(not (b.s1_onset_s < 4.0 and (b.next_s1_onset_s or 0) > 8.0) for b in seg.beats)
+
+
+def _f1_rows(ref, seg):
+    ev = evaluate_events(ref, seg.segment_rows(), tolerance_ms=60, within_reference=False)
+    tp = sum(ev.scores[k].true_positives for k in ("S1", "S2"))
+    fn = sum(ev.scores[k].false_negatives for k in ("S1", "S2"))
+    return tp / (tp + fn)
+
+
+def test_beats_table_consistent_and_json_ready():
+    sim, seg = _run(CaseSpec(snr_db=25.0, seed=72))
+    assert seg.method.startswith("hsmm")
+    assert seg.feature_fs == 50.0
+    labels = [s.label for s in seg.segments]
+    order = ["S1", "systole", "S2", "diastole"]
+    assert all(order[(order.index(a) + 1) % 4] == b for a, b in itertools.pairwise(labels))
+    for b in seg.beats:
+        assert b.s1_onset_s < b.s1_offset_s <= b.s2_onset_s < b.s2_offset_s
+        assert b.systole_ms == pytest.approx(1000 * (b.s2_onset_s - b.s1_onset_s))
+        if b.next_s1_onset_s is not None:
+            assert b.rr_s == pytest.approx(b.next_s1_onset_s - b.s1_onset_s)
+            assert b.diastole_ms == pytest.approx(1000 * (b.next_s1_onset_s - b.s2_onset_s))
+        assert 0.0 <= b.confidence <= 1.0
+    assert np.mean([b.confidence for b in seg.beats]) > 0.5
+    text = json.dumps(seg.to_dict())
+    back = json.loads(text)
+    assert back["rhythm"]["method"] == "beats"
+    assert back["segments"][0]["label"] in order
+    assert set(back["beats"][0]) == {
+        "index", "s1_onset_s", "s1_offset_s", "s2_onset_s", "s2_offset_s", "next_s1_onset_s",
+        "rr_s", "systole_ms", "diastole_ms", "confidence"}
+
+
+def test_long_recording_in_chunks_keeps_the_cycle():
+    spec = CaseSpec(snr_db=25.0, duration_s=150.0, seed=73, heart_rate_bpm=66.0)
+    sim, seg = _run(spec)
+    assert _f1(sim, seg) >= 0.97
+    labels = [s.label for s in seg.segments]
+    order = ["S1", "systole", "S2", "diastole"]
+    breaks = sum(order[(order.index(a) + 1) % 4] != b for a, b in itertools.pairwise(labels))
+    assert breaks <= 2  # at most one break per chunk junction (two junctions)
+    assert all(b.end_s > b.start_s for b in seg.segments)
+
+
+def test_click_train_no_simulator():
+    x, segs = click_train(75.0, duration_s=12.0, noise_rms=0.02, seed=9)
+    seg = segment(x / np.std(x), 4000.0)
+    assert seg.rhythm.heart_rate_bpm == pytest.approx(75.0, abs=2.0)
+    ev = evaluate_events(segs, seg.segment_rows(), tolerance_ms=60)
+    assert ev.scores["S1"].f1 >= 0.95 and ev.scores["S2"].f1 >= 0.95
+
+
+def test_errors():
+    with pytest.raises(InputError, match="one channel"):
+        segment(np.ones((10, 2)), 4000.0)
+    with pytest.raises(InputError, match="s of signal"):
+        segment(np.ones(100), 4000.0)
+    with pytest.raises(ParameterError, match="min_bpm"):
+        SegmentConfig(min_bpm=250.0)
+    with pytest.raises(InputError, match="emission model"):
+        segment(np.random.default_rng(0).normal(size=40_000), 4000.0,
+                config=SegmentConfig(emission_model="/nonexistent/model.json"))
