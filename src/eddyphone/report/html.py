@@ -86,7 +86,9 @@ table {{ border-collapse: collapse; width: 100%; font-size: 13px; margin: 6px 0 
 th, td {{ text-align:left; padding: 4px 8px; border-bottom: 1px solid var(--grid);
   vertical-align: top; }}
 th {{ color: var(--muted); font-weight: 600; background: #f3f1ea; }}
-td.num, th.num {{ text-align:right; font-variant-numeric: tabular-nums; white-space:nowrap; }}
+td.num, th.num {{ text-align:right; font-variant-numeric: tabular-nums; }}
+td.num {{ white-space:nowrap; }}
+.mech td:first-child {{ min-width: 9em; }}
 details.more {{ margin: 8px 0 14px; }}
 details.more > summary {{ margin-bottom: 6px; }}
 .murmur {{ border-left: 5px solid var(--accent); padding: 2px 0 2px 14px; margin: 14px 0; }}

@@ -93,7 +93,7 @@ def sites_figure(analyses: Sequence[Any]):
                 ax.plot([1000 * window[0], 1000 * window[1]], [-ENERGY_RANGE_DB - 2] * 2,
                         color=palette.ACCENT, lw=3, solid_capstyle="butt")
             ax.set_xlim(1000 * t[0], 1000 * t[-1])
-            ax.set_ylim(-ENERGY_RANGE_DB - 4, 6)
+            ax.set_ylim(-ENERGY_RANGE_DB - 4, 12)
             ax.grid(axis="y")
             ax.set_xlabel("time from S1 (ms)")
         for ax in axes[len(items):]:
@@ -107,7 +107,7 @@ def site_rows(analyses: Sequence[Any], out_dir: Path | None = None
               ) -> tuple[list[str], list[list[str]]]:
     """One row per site: rate, rhythm, murmur, grade, pitch, mechanism, quality, report."""
     header = ["site", "recording", "rate (bpm)", "rhythm", "murmur", "pitch",
-              "level re S1/S2 (dB)", "consistency", "top mechanism", "quality"]
+              "level (dB re S1/S2)", "beats with it", "top mechanism", "quality"]
     rows = []
     for a in order_sites(analyses):
         s = a.summary()
