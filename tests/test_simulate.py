@@ -456,3 +456,16 @@ def test_device_ripple_and_gain_wander_are_bounded():
     env = [np.array([np.abs(s.parts["cardiac"][int(a * s.fs): int(b * s.fs)]).max()
                      for a, b, lab in s.segments if lab == "S1"]) for s in (calm, wavy)]
     assert np.ptp(20 * np.log10(env[1])) > np.ptp(20 * np.log10(env[0])) + 1.0
+
+
+def test_every_cycle_fits_even_when_short():
+    # fast, irregular and premature cycles still give S1 < systole < S2 < diastole with
+    # positive durations (the truth a segmenter is scored against must be well formed)
+    specs = [CaseSpec(heart_rate_bpm=hr, rhythm=r, ectopic_rate=0.2, duration_s=8, seed=k)
+             for k, (hr, r) in enumerate([(180, "sinus"), (200, "irregular"),
+                                          (150, "irregular"), (45, "sinus")])]
+    specs += benchmark_specs(12, seed=4)
+    for spec in specs:
+        sim = generate(spec)
+        d = np.array([b - a for a, b, _ in sim.segments])
+        assert d.size and d.min() > 0.009, (spec.heart_rate_bpm, spec.rhythm, d.min())

@@ -56,3 +56,13 @@ def test_list_runs_without_out():
     proc = subprocess.run([sys.executable, "-m", "eddyphone.cli", "simulate", "--list"],
                           capture_output=True, text=True, check=False)
     assert proc.returncode == 0 and "05_systolic_leak" in proc.stdout
+
+
+def test_rewriting_one_case_keeps_the_index(tmp_path):
+    out = tmp_path / "demo"
+    assert main(["simulate", "--out", str(out)]) == 0
+    assert main(["simulate", "--out", str(out), "--case", "05_systolic_leak", "--overwrite"]) == 0
+    with open(out / "index.csv") as fh:
+        ids = [r["id"] for r in csv.DictReader(fh)]
+    assert len(ids) == 10 and "01_resting_adult" in ids
+    assert (out / "README.md").read_text().count("| `") == 10

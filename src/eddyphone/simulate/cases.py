@@ -261,6 +261,12 @@ def _write_set(specs: dict[str, CaseSpec], out_dir: str | Path, *, overwrite: bo
         sim = generate(spec)
         write(sim, out, case_id, overwrite=overwrite)
         rows.append(_index_row(case_id, sim, spec))
+    if index.exists():
+        # rewriting some cases of a folder keeps the index rows of the others
+        with open(index) as fh:
+            old = [r for r in csv.DictReader(fh) if r.get("id") not in specs]
+        if old and set(old[0]) == set(_INDEX_FIELDS):
+            rows = sorted(old + rows, key=lambda r: r["id"])
     with open(index, "w", newline="") as fh:
         w = csv.DictWriter(fh, fieldnames=_INDEX_FIELDS, lineterminator="\n")
         w.writeheader()
@@ -367,6 +373,6 @@ def write_demo(out_dir: str | Path, names: list[str] | None = None, *, seed: int
                          "choose another --out folder or pass --overwrite")
     index = _write_set(specs, out_dir, overwrite=overwrite)
     with open(index) as fh:
-        rows = list(csv.DictReader(fh))
-    readme.write_text(demo_readme(rows, specs))
+        rows = [r for r in csv.DictReader(fh) if r["id"] in all_specs]
+    readme.write_text(demo_readme(rows, {r["id"]: all_specs[r["id"]] for r in rows}))
     return index

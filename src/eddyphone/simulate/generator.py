@@ -158,9 +158,13 @@ def generate(spec: CaseSpec, *, seed: int | None = None) -> Simulated:
         hr_for_systole = 60.0 / rr_prev
         sys_mean, _ = physiology.systolic_interval_s(float(np.clip(hr_for_systole, 30, 240)),
                                                      sex=spec.sex)
+        # sound durations shrink a little with short cycles; within one cycle S1 takes at
+        # most 28% and S2 22%, leaving room for systole and diastole (our own bounds)
         shrink = float(np.clip((rr / 0.8) ** 0.25, 0.8, 1.05))
-        s1_dur = s1_base * shrink * (1 + r_sound.normal(0, 0.05))
-        comp1 = max(s1_dur - m1_t1 - m1_lead, 0.05)
+        s1_dur = min(s1_base * shrink * (1 + r_sound.normal(0, 0.05)), 0.28 * rr)
+        t1_delay = float(np.clip(m1_t1 + r_sound.normal(0, 0.002), *physiology.S1_SPLIT_S))
+        comp1 = max(s1_dur - t1_delay - m1_lead, 0.03)
+        s1_total = m1_lead + t1_delay + comp1
         vol = float(np.clip(breath.at(s1 + sys_mean), 0, 1))
         soften = 1.0 - spec.respiratory_loudness * vol
         if spec.s2_split == "physiological":
@@ -171,8 +175,13 @@ def generate(spec: CaseSpec, *, seed: int | None = None) -> Simulated:
             split = r_sound.uniform(0.0, 0.008)
         split = max(split, 0.0)
         comp2 = max(s2_base * shrink - 0.4 * split, 0.045)
+        if split + comp2 > 0.22 * rr:
+            f = 0.22 * rr / (split + comp2)
+            split, comp2 = split * f, comp2 * f
         sys = sys_mean + subject_sys_offset + r_sound.normal(0, 0.004)
-        sys = float(np.clip(sys, s1_dur + 0.03, rr - (split + comp2) - 0.06))
+        sys_lo = s1_total + max(0.02, 0.05 * rr)
+        sys_hi = rr - (split + comp2) - max(0.04, 0.1 * rr)
+        sys = float(np.clip(sys, sys_lo, sys_hi))
         # loudness: S1 follows the preceding filling time in irregular rhythms
         if sinus:
             g1 = 1.0 + r_sound.normal(0, 0.06)
@@ -185,7 +194,6 @@ def generate(spec: CaseSpec, *, seed: int | None = None) -> Simulated:
                             r_sound)
         m1 = add_component(sounds, fs, s1 + m1_lead, comp1, site["S1"] * g1, timbres["M1"],
                            r_sound)
-        t1_delay = float(np.clip(m1_t1 + r_sound.normal(0, 0.002), *physiology.S1_SPLIT_S))
         t1 = add_component(sounds, fs, s1 + m1_lead + t1_delay, comp1,
                            site["S1"] * site["T1"] * g1, timbres["T1"], r_sound)
         a2 = add_component(sounds, fs, s1 + sys, comp2, site["S2"] * g2, timbres["A2"], r_sound)
