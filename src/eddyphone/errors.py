@@ -10,26 +10,23 @@ class EddyphoneError(Exception):
     """Root of every error eddyphone raises on purpose."""
 
 
-class InputError(EddyphoneError, ValueError):
+class _SourcedError(EddyphoneError):
+    """An error about one input: ``"<source>: <problem>; <remedy>"`` on one line."""
+
+    def __init__(self, source: str | None, problem: str, remedy: str) -> None:
+        self.source = source
+        self.problem = problem
+        self.remedy = remedy
+        where = f"{source}: " if source else ""
+        super().__init__(f"{where}{problem}; {remedy}")
+
+
+class InputError(_SourcedError, ValueError):
     """The input (file, array or option) cannot be used as given."""
 
-    def __init__(self, source: str | None, problem: str, remedy: str) -> None:
-        self.source = source
-        self.problem = problem
-        self.remedy = remedy
-        where = f"{source}: " if source else ""
-        super().__init__(f"{where}{problem}; {remedy}")
 
-
-class QualityError(EddyphoneError):
+class QualityError(_SourcedError):
     """The recording is readable but too poor for the requested analysis."""
-
-    def __init__(self, source: str | None, problem: str, remedy: str) -> None:
-        self.source = source
-        self.problem = problem
-        self.remedy = remedy
-        where = f"{source}: " if source else ""
-        super().__init__(f"{where}{problem}; {remedy}")
 
 
 class ParameterError(EddyphoneError, ValueError):
