@@ -33,6 +33,8 @@ FUNCTIONAL = ("high_flow", "low_viscosity", "wall_irregularity")
 HIGH_OUTPUT_STATES = ("exercise", "pregnancy", "fever", "thyrotoxicosis", "sepsis",
                       "arteriovenous_fistula")
 
+_PITCH_WORD = {"dominant_frequency": "dominant frequency", "centroid": "spectral centroid"}
+
 _GRADES = {"I": 1, "II": 2, "III": 3, "IV": 4, "V": 5, "VI": 6}
 
 
@@ -79,6 +81,18 @@ def _grade_high(grade_range: object) -> int | None:
     if isinstance(hi, (int, float)):
         return int(hi)
     return _GRADES.get(str(hi).strip().upper())
+
+
+def _sureness(m: object, name: str) -> float:
+    """How far to trust a descriptive word: its confidence, kept within 0.25-1."""
+    value = getattr(m, name, None)
+    if value is None or not np.isfinite(value):
+        return 1.0
+    return float(np.clip(value, 0.25, 1.0))
+
+
+def _sure(text: str, sureness: float) -> str:
+    return text if sureness >= 0.999 else f"{text} [word confidence {sureness:.2f}]"
 
 
 def _ev(text: str, **weights: float) -> Evidence:
@@ -140,54 +154,67 @@ def _sound_evidence(m: object, extras: set[str], basis: Basis,
                       narrowed_orifice=w("continuous_orifice"),
                       high_flow=w("continuous_flow"), low_viscosity=w("continuous_other"),
                       wall_irregularity=w("continuous_other")))
-    # timing and shape
+    # timing and shape, each weighed by how sure the findings stage was of the word
+    tc, sc = 1.0, 1.0
+    if config.use_word_confidence:
+        tc, sc = _sureness(m, "timing_confidence"), _sureness(m, "shape_confidence")
     if phase == "systolic":
         if timing == "holo":
-            ev.append(_ev("holosystolic: noise from S1 to S2 needs a pressure difference "
-                          "across an orifice for the whole of systole, as in a leak",
-                          narrowed_orifice=w("holo_orifice"),
-                          **_spread(FUNCTIONAL, w("holo_other"))))
+            ev.append(_ev(_sure("holosystolic: noise from S1 to S2 needs a pressure "
+                                "difference across an orifice for the whole of systole, as in "
+                                "a leak", tc),
+                          narrowed_orifice=w("holo_orifice") * tc,
+                          **_spread(FUNCTIONAL, w("holo_other") * tc)))
         elif timing == "late":
-            ev.append(_ev("late systolic: noise that starts or peaks late points to an orifice "
-                          "that opens or tightens as systole goes on",
-                          narrowed_orifice=w("late_orifice")))
+            ev.append(_ev(_sure("late systolic: noise that starts or peaks late points to an "
+                                "orifice that opens or tightens as systole goes on", tc),
+                          narrowed_orifice=w("late_orifice") * tc))
         elif timing == "early":
-            ev.append(_ev("early systolic: flow murmurs follow the early peak of ejection",
-                          **_spread(FLOW, w("early_flow"))))
+            ev.append(_ev(_sure("early systolic: flow murmurs follow the early peak of "
+                                "ejection", tc), **_spread(FLOW, w("early_flow") * tc)))
         elif timing == "mid":
-            ev.append(_ev("mid-systolic: the timing of ejection, shared by flow murmurs, "
-                          "outflow narrowing and valve sclerosis",
-                          **_spread(MECHANISMS[:4], w("mid_ejection"))))
+            ev.append(_ev(_sure("mid-systolic: the timing of ejection, shared by flow "
+                                "murmurs, outflow narrowing and valve sclerosis", tc),
+                          **_spread(MECHANISMS[:4], w("mid_ejection") * tc)))
         if shape == "plateau":
-            ev.append(_ev("plateau shape: a steady pressure difference drives a steady jet",
-                          narrowed_orifice=w("plateau_orifice")))
+            ev.append(_ev(_sure("plateau shape: a steady pressure difference drives a steady "
+                                "jet", sc), narrowed_orifice=w("plateau_orifice") * sc))
         elif shape == "crescendo-decrescendo":
             pf = getattr(m, "peak_fraction", None)
             if pf is not None and pf >= 0.55:
-                ev.append(_ev(f"crescendo-decrescendo peaking late (at {pf:.0%} of systole): "
-                              "the later the peak, the tighter an outflow narrowing",
-                              narrowed_orifice=w("late_peak_orifice")))
+                ev.append(_ev(_sure(f"crescendo-decrescendo peaking late (at {pf:.0%} of "
+                                    "systole): the later the peak, the tighter an outflow "
+                                    "narrowing", sc),
+                              narrowed_orifice=w("late_peak_orifice") * sc))
             elif pf is not None and pf <= 0.4:
-                ev.append(_ev(f"crescendo-decrescendo peaking early (at {pf:.0%} of systole), "
-                              "as ejection flow does", **_spread(FLOW, w("early_peak_flow"))))
+                ev.append(_ev(_sure(f"crescendo-decrescendo peaking early (at {pf:.0%} of "
+                                    "systole), as ejection flow does", sc),
+                              **_spread(FLOW, w("early_peak_flow") * sc)))
     elif phase == "diastolic" and shape in ("decrescendo", "crescendo"):
         what = ("decrescendo from S2: a leak whose driving pressure falls through diastole"
                 if shape == "decrescendo" else
                 "crescendo into S1: inflow through a narrowed valve boosted by atrial "
                 "contraction")
-        ev.append(_ev(what, narrowed_orifice=w("diastolic_shape_orifice")))
+        ev.append(_ev(_sure(what, sc), narrowed_orifice=w("diastolic_shape_orifice") * sc))
     # pitch against Strouhal scaling of flow through a normal lumen
-    f = getattr(m, "dominant_frequency_hz", None)
+    f = getattr(m, config.pitch_measure + "_hz", None)
+    if f is None or not np.isfinite(f) or f <= 0:
+        f = getattr(m, "dominant_frequency_hz", None)
     if f is not None and np.isfinite(f) and f > 0:
         ceiling = flow_noise_ceiling_hz(basis, phase, config)
         octaves = float(np.clip(math.log2(f / ceiling), -1.5, 2.5))
-        if octaves > 0:
-            text = (f"dominant frequency {f:.0f} Hz is {octaves:.1f} octaves above the "
-                    f"~{ceiling:.0f} Hz that even raised flow through a normal lumen makes "
-                    "(Strouhal scaling): a smaller, faster jet is implied")
+        what = f"{_PITCH_WORD[config.pitch_measure]} {f:.0f} Hz"
+        if octaves >= 1.0:
+            text = (f"{what} is {octaves:.1f} octaves above the ~{ceiling:.0f} Hz that even "
+                    "raised flow through a normal lumen makes (Strouhal scaling): a smaller, "
+                    "faster jet is implied")
+        elif octaves > 0:
+            text = (f"{what} is a little ({octaves:.1f} octaves) above the ~{ceiling:.0f} Hz "
+                    "that raised flow through a normal lumen makes (Strouhal scaling): a weak "
+                    "hint of a smaller, faster jet")
         else:
-            text = (f"dominant frequency {f:.0f} Hz is within the ~{ceiling:.0f} Hz that "
-                    "raised flow through a normal lumen can make (Strouhal scaling)")
+            text = (f"{what} is within the ~{ceiling:.0f} Hz that raised flow through a "
+                    "normal lumen can make (Strouhal scaling)")
         ev.append(_ev(text, narrowed_orifice=w("pitch_orifice_per_octave") * octaves,
                       **_spread(FUNCTIONAL, w("pitch_flow_per_octave") * max(octaves, 0.0))))
     # loudness
@@ -213,17 +240,10 @@ def _sound_evidence(m: object, extras: set[str], basis: Basis,
     if "musical" in words:
         ev.append(_ev("musical quality: a regular vibration of a valve or wall structure",
                       wall_irregularity=w("musical_wall"), high_flow=w("musical_flow")))
-    # certainty of the murmur
-    if getattr(m, "presence", "present") == "present":
-        ev.append(_ev("the murmur is clearly present",
-                      no_flow_disturbance=w("present_no_disturbance")))
-    else:
-        ev.append(_ev("the murmur is uncertain: it may be noise rather than flow",
-                      no_flow_disturbance=w("uncertain_no_disturbance")))
-    cons = getattr(m, "consistency", None)
-    if cons is not None and cons < 0.5:
-        ev.append(_ev(f"heard in only {cons:.0%} of usable beats",
-                      no_flow_disturbance=w("inconsistent_no_disturbance")))
+    # the murmur itself: if it is real, flow is disturbed somewhere (whether it is real
+    # at all is weighed after the softmax, by the findings' confidence)
+    ev.append(_ev("a real murmur means disturbed flow somewhere",
+                  no_flow_disturbance=w("present_no_disturbance")))
     # companion sounds
     if "opening_snap" in extras and phase == "diastolic":
         ev.append(_ev("opening snap before the murmur: stiff leaflets of a narrowed inflow "

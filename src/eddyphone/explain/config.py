@@ -132,6 +132,12 @@ class ExplainConfig:
         How far above its resting value the peak velocity may rise in a high-output
         state (exercise roughly doubles cardiac output, common practice); sets the
         highest pitch flow through a normal lumen can explain.
+    pitch_measure : {'dominant_frequency', 'centroid'}
+        Which of the murmur's frequencies stands for its pitch in the Strouhal
+        arguments.
+    use_word_confidence : bool
+        Scale the timing and shape evidence by the findings' ``timing_confidence`` and
+        ``shape_confidence`` (kept within 0.25-1).
     weights : dict
         Log-evidence weights by name (see ``DEFAULT_WEIGHTS``).
     """
@@ -140,7 +146,26 @@ class ExplainConfig:
     cardiac_output_l_min: float = NORMAL_CARDIAC_OUTPUT_L_MIN
     strouhal: float = STROUHAL_NUMBER
     high_flow_velocity_factor: float = 2.0
+    pitch_measure: str = "dominant_frequency"
+    use_word_confidence: bool = False
     weights: dict = field(default_factory=lambda: dict(DEFAULT_WEIGHTS))
+
+    def __post_init__(self) -> None:
+        from eddyphone.errors import ParameterError
+
+        if self.pitch_measure not in ("dominant_frequency", "centroid"):
+            raise ParameterError(f"pitch_measure {self.pitch_measure!r} is not "
+                                 "'dominant_frequency' or 'centroid'")
+        unknown = set(self.weights) - set(DEFAULT_WEIGHTS)
+        if unknown:
+            raise ParameterError(f"unknown explainer weights {sorted(unknown)}; known: "
+                                 f"{', '.join(sorted(DEFAULT_WEIGHTS))}")
+        for name, value in (("hematocrit", self.hematocrit),
+                            ("cardiac_output_l_min", self.cardiac_output_l_min),
+                            ("strouhal", self.strouhal),
+                            ("high_flow_velocity_factor", self.high_flow_velocity_factor)):
+            if not value > 0:
+                raise ParameterError(f"{name} = {value!r} must be positive")
 
     def w(self, name: str) -> float:
         """One weight by name."""
@@ -192,10 +217,9 @@ DEFAULT_WEIGHTS: dict[str, float] = {
     "rumbling_orifice": 0.5,
     "musical_wall": 0.5,
     "musical_flow": 0.2,
-    # certainty of the murmur itself
+    # a real murmur means disturbed flow (the chance that it is not real comes from the
+    # findings' confidence, mixed in after the softmax)
     "present_no_disturbance": -3.0,
-    "uncertain_no_disturbance": -0.5,
-    "inconsistent_no_disturbance": 1.0,
     # companion sounds
     "snap_orifice": 1.5,
     "click_orifice": 1.0,

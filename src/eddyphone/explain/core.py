@@ -102,17 +102,26 @@ def _explain_murmur(m: object, extra_kinds: Iterable[str], basis: Basis,
                     config: ExplainConfig) -> tuple[Mechanism, ...]:
     evidence = score_murmur(m, extra_kinds=extra_kinds, basis=basis, config=config)
     logits = np.array([sum(e.for_(name) for e in evidence) for name in MECHANISMS])
-    scores = softmax(logits)
+    # mixture: with the findings' confidence c the murmur is real and the softmax ranks
+    # its causes; with 1 - c it is an artefact and there is no flow disturbance
+    c = float(np.clip(getattr(m, "confidence", 1.0), 0.0, 1.0))
+    scores = c * softmax(logits)
+    nfd = MECHANISMS.index("no_flow_disturbance")
+    scores[nfd] += 1.0 - c
     pattern = murmur_pattern(m)
     lumen = lumen_for(basis.site, m.phase)
-    f_hz = _frequency(m)
+    f_hz = _frequency(m, config)
     present = getattr(m, "presence", "present") == "present"
     out = []
     for i, name in enumerate(MECHANISMS):
         numbers = _numbers(name, m.phase, pattern, f_hz, basis, config)
         facts = {"co_assumed": basis.cardiac_output_source == "default",
-                 "h_assumed": basis.hematocrit_source == "default", "present": present}
+                 "h_assumed": basis.hematocrit_source == "default", "present": present,
+                 "f_hz": f_hz}
         ev = tuple(f"{e.text} ({e.for_(name):+.1f})" for e in evidence if e.for_(name))
+        if name == "no_flow_disturbance" and c < 1.0:
+            ev += (f"the findings give the murmur {c:.0%} confidence of being real; the other "
+                   f"{1 - c:.0%} is the chance that it is noise, breath or handling",)
         out.append(Mechanism(
             name=name, label=label(name, pattern, phase=m.phase, site=basis.site),
             score=float(scores[i]), rank=0,
@@ -132,8 +141,11 @@ def _ranked(mechs: Iterable[Mechanism]) -> tuple[Mechanism, ...]:
     return tuple(replace(x, rank=i + 1) for i, x in enumerate(order))
 
 
-def _frequency(m: object) -> float | None:
-    for key in ("dominant_frequency_hz", "centroid_hz"):
+def _frequency(m: object, config: ExplainConfig | None = None) -> float | None:
+    keys = ("dominant_frequency_hz", "centroid_hz")
+    if config is not None and config.pitch_measure == "centroid":
+        keys = keys[::-1]
+    for key in keys:
         f = getattr(m, key, None)
         if f is not None and np.isfinite(f) and f > 0:
             return float(f)
@@ -149,13 +161,26 @@ def _numbers(name: str, phase: str, pattern: str, f_hz: float | None, basis: Bas
     vessel = vessel_numbers(basis, phase, config, f_hz)
     lv = levers(basis, phase, config)
     if name == "high_flow":
-        return {
+        out = {
             "cardiac_output_l_min": _num(basis.cardiac_output_l_min, "L/min",
                                          f"Cardiac output ({basis.cardiac_output_source})."),
             "flow_factor": _num(lv.flow_factor, "", "How much the flow raises Re against a "
                                 "resting output."),
             **vessel,
         }
+        if basis.cardiac_output_source == "default":
+            k = config.high_flow_velocity_factor
+            raised = replace(basis, cardiac_output_l_min=basis.cardiac_output_l_min * k,
+                             cardiac_output_source="assumed raised")
+            hi = vessel_numbers(raised, phase, config)
+            out["raised_cardiac_output_l_min"] = _num(
+                raised.cardiac_output_l_min, "L/min", f"A {k:g}-fold output, as in exercise "
+                "or another high-output state (what this mechanism needs).")
+            out["reynolds_number_raised"] = dict(hi["reynolds_number_peak"], meaning=(
+                "Peak Re at that raised output."))
+            out["flow_noise_frequency_raised_hz"] = dict(hi["flow_noise_frequency_hz"], meaning=(
+                "Strouhal noise frequency of the flow at that raised output."))
+        return out
     if name == "low_viscosity":
         return viscosity_numbers(basis, phase, config)
     if name == "narrowed_orifice":

@@ -103,25 +103,36 @@ def physics_text(name: str, numbers: Mapping[str, Mapping], *, pattern: str | No
     """
     n = numbers
     if name == "high_flow":
-        text = (f"The Reynolds number Re = 4 rho Q / (pi D mu) grows in proportion to flow: "
+        f_dom = facts.get("f_hz")
+        heard = "" if f_dom is None else f" (the murmur: {fmt(float(f_dom))} Hz)"
+        if facts.get("co_assumed") and "reynolds_number_raised" in n:
+            return ("The Reynolds number Re = 4 rho Q / (pi D mu) grows in proportion to "
+                    f"flow: no cardiac output was supplied, so at the resting "
+                    f"{_v(n, 'cardiac_output_l_min')} L/min peak Re in the {lumen} is about "
+                    f"{_v(n, 'reynolds_number_peak')}, and a "
+                    f"{_v(n, 'raised_cardiac_output_l_min')} L/min output, as in exercise, "
+                    f"would raise it to about {_v(n, 'reynolds_number_raised')}. More flow "
+                    "through a normal valve drives ejection further past the point where "
+                    "disturbances die out, so brief turbulence at peak ejection makes a soft, "
+                    "early-peaking murmur of low pitch: Strouhal scaling puts its noise near "
+                    f"{_v(n, 'flow_noise_frequency_hz')}-{_v(n, 'flow_noise_frequency_raised_hz')}"
+                    f" Hz at rest and at the raised output{heard}.")
+        return ("The Reynolds number Re = 4 rho Q / (pi D mu) grows in proportion to flow: "
                 f"at a cardiac output of {_v(n, 'cardiac_output_l_min')} L/min peak Re in the "
                 f"{lumen} is about {_v(n, 'reynolds_number_peak')}, against "
                 f"{_v(n, 'reynolds_number_normal')} for a resting adult with normal blood and "
-                "lumen. More flow "
-                "through a normal valve drives ejection further past the point where "
-                "disturbances die out, so brief turbulence at peak ejection makes a soft, "
-                "early-peaking murmur of low pitch, near the "
-                f"{_v(n, 'flow_noise_frequency_hz')} Hz Strouhal scaling gives for this lumen.")
-        if facts.get("co_assumed"):
-            text += (" No cardiac output was supplied, so the resting value is used: this "
-                     "mechanism fits only if output is in fact raised.")
-        return text
+                "lumen. More flow through a normal valve drives ejection further past the "
+                "point where disturbances die out, so brief turbulence at peak ejection makes "
+                "a soft, early-peaking murmur of low pitch, near the "
+                f"{_v(n, 'flow_noise_frequency_hz')} Hz Strouhal scaling gives for this "
+                f"flow{heard}.")
     if name == "low_viscosity":
         text = (f"Viscosity damps disturbances: at hematocrit {_v(n, 'hematocrit')} blood "
                 f"viscosity is about {_v(n, 'viscosity_mpa_s')} mPa s against "
                 f"{_v(n, 'normal_viscosity_mpa_s')} at a normal hematocrit, which multiplies "
                 f"the Reynolds number by {_v(n, 'viscosity_factor')} (peak Re about "
-                f"{_v(n, 'reynolds_number_peak')}). Thinner blood lets ordinary ejection flow "
+                f"{_v(n, 'reynolds_number_peak')} against {_v(n, 'reynolds_number_normal')} "
+                "with normal blood). Thinner blood lets ordinary ejection flow "
                 "become disturbed, and anemia usually raises cardiac output as well, so the "
                 "two levers add.")
         if facts.get("h_assumed"):
@@ -208,9 +219,10 @@ def _num_line(numbers: Mapping[str, Mapping], keys: tuple[str, ...]) -> str:
 
 _KEY_NUMBERS = {
     "high_flow": ("cardiac_output_l_min", "peak_velocity_m_s", "reynolds_number_peak",
-                  "reynolds_number_normal", "womersley_number", "flow_noise_frequency_hz"),
+                  "reynolds_number_normal", "reynolds_number_raised", "womersley_number",
+                  "flow_noise_frequency_hz"),
     "low_viscosity": ("hematocrit", "viscosity_mpa_s", "viscosity_factor",
-                      "reynolds_number_peak"),
+                      "reynolds_number_peak", "reynolds_number_normal"),
     "narrowed_orifice": ("orifice_diameter_mm", "jet_velocity_m_s", "pressure_drop_mmhg",
                          "jet_reynolds_number", "break_frequency_hz", "pitch_velocity_m_s"),
     "wall_irregularity": ("reynolds_number_peak", "reynolds_ratio"),
