@@ -98,9 +98,13 @@ class _Pages:
     # flowing content
     def heading(self, s: str, level: int = 1) -> None:
         size = 13 if level == 1 else 10.5
-        self.need(0.9 if level == 1 else 0.6)
+        lines = self._wrap(s, self.width, size * 1.08)  # bold runs wider
+        self.need((0.9 if level == 1 else 0.6) + size * 1.3 * _PT * (len(lines) - 1))
         self.y += 0.14 if level == 1 else 0.08
-        self._text(MARGIN_IN, self.y, s, size, weight="bold")
+        for line in lines[:-1]:
+            self._text(MARGIN_IN, self.y, line, size, weight="bold")
+            self.y += size * 1.3 * _PT
+        self._text(MARGIN_IN, self.y, lines[-1], size, weight="bold")
         self.y += size * 1.45 * _PT
         if level == 1:
             self.fig.add_artist(self._rule(self.y - 0.03, palette.GRID, 0.8))
