@@ -187,7 +187,7 @@ def benchmark_specs(n: int, *, seed: int = 0, duration_s: float = 15.0) -> list[
             peak_dbfs=float(rng.uniform(-12, -0.5)),
             overdrive_db=float(rng.choice([0.0] * 9 + [rng.uniform(1, 6)])),
             site=str(rng.choice(SITES)),
-            precordial_motion=float(rng.uniform(0.0, 1.5)),
+            precordial_motion=float(rng.uniform(0.0, 0.8)),
             respiratory_loudness=float(rng.uniform(0.0, 0.3)),
             adventitious=str(rng.choice(["none"] * 8 + ["crackles", "wheeze"])),
             adventitious_db=float(rng.uniform(-24, -6)),

@@ -108,11 +108,11 @@ def _minimum_phase_fir(gain_db: np.ndarray, n_fft: int) -> np.ndarray:
 
 
 def _preroll(x: np.ndarray, m: int) -> np.ndarray:
-    # odd reflection of the start so that a causal filter begins in steady state
-    # (a recording has no switch-on step: the body was sounding before it started)
+    # mirror image of the start so that a causal filter begins in steady state (a
+    # recording has no switch-on step: the body was sounding before it started); an even
+    # mirror keeps the mean, so very-low-frequency responses see no step either
     m = min(m, len(x) - 1)
-    head = 2 * x[0] - x[m:0:-1]
-    return np.concatenate([head, x])
+    return np.concatenate([x[m:0:-1], x])
 
 
 def draw_ripple(amount_db: float, rng: np.random.Generator) -> tuple[tuple[float, float], ...]:
