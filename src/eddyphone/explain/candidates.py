@@ -208,10 +208,13 @@ def _sound_evidence(m: object, extras: set[str], basis: Basis,
             text = (f"{what} is {octaves:.1f} octaves above the ~{ceiling:.0f} Hz that even "
                     "raised flow through a normal lumen makes (Strouhal scaling): a smaller, "
                     "faster jet is implied")
-        elif octaves > 0:
+        elif octaves > 0.25:
             text = (f"{what} is a little ({octaves:.1f} octaves) above the ~{ceiling:.0f} Hz "
                     "that raised flow through a normal lumen makes (Strouhal scaling): a weak "
                     "hint of a smaller, faster jet")
+        elif octaves > 0:
+            text = (f"{what} is about the ~{ceiling:.0f} Hz that raised flow through a "
+                    "normal lumen makes (Strouhal scaling)")
         else:
             text = (f"{what} is within the ~{ceiling:.0f} Hz that raised flow through a "
                     "normal lumen can make (Strouhal scaling)")

@@ -118,7 +118,8 @@ def _explain_murmur(m: object, extra_kinds: Iterable[str], basis: Basis,
         facts = {"co_assumed": basis.cardiac_output_source == "default",
                  "h_assumed": basis.hematocrit_source == "default", "present": present,
                  "f_hz": f_hz}
-        ev = tuple(f"{e.text} ({e.for_(name):+.1f})" for e in evidence if e.for_(name))
+        ev = tuple(f"{e.text} ({e.for_(name):+.1f})" for e in evidence
+                   if abs(e.for_(name)) >= 0.05)
         if name == "no_flow_disturbance" and c < 1.0:
             ev += (f"the findings give the murmur {c:.0%} confidence of being real; the other "
                    f"{1 - c:.0%} is the chance that it is noise, breath or handling",)
