@@ -54,11 +54,11 @@ class _Pages:
                    colour=palette.MUTED)
         self._text(PAGE_IN[0] - MARGIN_IN, 0.42, f"page {self.page}", 7.5,
                    colour=palette.MUTED, ha="right")
-        self.fig.add_artist(self._rule(0.5, palette.INK, 0.8))
+        self.fig.add_artist(self._rule(0.6, palette.INK, 0.8))
         self._text(MARGIN_IN, PAGE_IN[1] - 0.4, "Decision support, not a diagnosis: every "
                    "finding needs confirmation by a licensed clinician.", 7,
                    colour=palette.MUTED)
-        self.y = MARGIN_IN + 0.05
+        self.y = MARGIN_IN + 0.12
 
     def _finish(self) -> None:
         self.pdf.savefig(self.fig)
@@ -184,7 +184,7 @@ class _Pages:
         self.need(height + extra)
         ax = self.fig.add_axes([MARGIN_IN / PAGE_IN[0], 1 - (self.y + height) / PAGE_IN[1],
                                 width / PAGE_IN[0], height / PAGE_IN[1]])
-        ax.imshow(img, interpolation="antialiased")
+        ax.imshow(img, interpolation="none")  # embedded unresampled at full resolution
         ax.set_axis_off()
         self.y += height + 0.05
         if caption:
