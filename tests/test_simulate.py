@@ -453,9 +453,12 @@ def test_device_ripple_and_gain_wander_are_bounded():
     base = CaseSpec(seed=12, **QUIET)
     calm = generate(base)
     wavy = generate(base.with_(gain_wander_db=6.0))
+    # same heart sounds in both (separate random streams): the per-beat S1 peak ratio
+    # shows the slow gain change alone, within +/-6 dB
     env = [np.array([np.abs(s.parts["cardiac"][int(a * s.fs): int(b * s.fs)]).max()
                      for a, b, lab in s.segments if lab == "S1"]) for s in (calm, wavy)]
-    assert np.ptp(20 * np.log10(env[1])) > np.ptp(20 * np.log10(env[0])) + 1.0
+    swing = np.ptp(20 * np.log10(env[1] / env[0]))
+    assert 1.0 < swing <= 12.0
 
 
 def test_every_cycle_fits_even_when_short():
@@ -469,3 +472,23 @@ def test_every_cycle_fits_even_when_short():
         sim = generate(spec)
         d = np.array([b - a for a, b, _ in sim.segments])
         assert d.size and d.min() > 0.009, (spec.heart_rate_bpm, spec.rhythm, d.min())
+
+
+def test_classic_loudness_changes_of_s1_and_a2():
+    # common practice: loud S1 with a narrowed inflow valve in sinus rhythm, soft S1
+    # with a leaking inflow valve, soft A2 with a tight outflow valve
+    base = CaseSpec(heart_rate_bpm=70, seed=21, **QUIET)
+
+    def s1_level(spec):
+        sim = generate(spec)
+        return np.mean([b["s1_gain"] for b in sim.truth["beats"]]), sim
+
+    normal, _ = s1_level(base)
+    loud, _ = s1_level(base.with_(murmur=MurmurSpec("narrowed_inflow", diameter_m=0.011,
+                                                    velocity_m_s=2.3)))
+    soft, _ = s1_level(base.with_(murmur=MurmurSpec("systolic_leak", diameter_m=0.006,
+                                                    velocity_m_s=5.0)))
+    assert loud > 1.3 * normal and soft < 0.8 * normal
+    tight = generate(base.with_(murmur=MurmurSpec("narrowed_outflow", diameter_m=0.008,
+                                                  velocity_m_s=4.6)))
+    assert tight.truth["murmur"]["a2_gain_from_cause"] < 0.6

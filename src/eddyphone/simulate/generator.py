@@ -44,6 +44,17 @@ MURMUR_SITE_DB = {
     "continuous": {"aortic": -4, "pulmonic": 0, "tricuspid": -4, "mitral": -8},
 }
 
+#: How each murmur cause changes the loudness of S1 and of A2 (factor at the most
+#: severe end; common practice of auscultation: a loud S1 with a narrowed inflow
+#: valve in sinus rhythm, a soft S1 with a leaking inflow valve, a soft A2 with a
+#: tight outflow valve or a leaking outflow valve).
+MURMUR_SOUND_GAINS = {
+    "narrowed_inflow": {"S1": 1.6, "A2": 1.0},
+    "systolic_leak": {"S1": 0.65, "A2": 1.0},
+    "narrowed_outflow": {"S1": 1.0, "A2": 0.45},
+    "diastolic_leak": {"S1": 0.9, "A2": 0.7},
+}
+
 #: Band in which signal-to-noise ratios are defined, Hz.
 SNR_BAND_HZ = (25.0, 400.0)
 
@@ -146,6 +157,7 @@ def generate(spec: CaseSpec, *, seed: int | None = None) -> Simulated:
                ("S1a", "M1", "T1", "A2", "P2", "S3", "S4", "click", "snap")}
     m1_lead = r_subject.uniform(0.005, 0.015)
     site = SITE_LEVELS[spec.site]
+    s1_cause, a2_cause = _cause_gains(plan, sinus)
 
     # --- heart sounds, beat by beat --------------------------------------------------
     sounds = np.zeros(n)
@@ -188,7 +200,7 @@ def generate(spec: CaseSpec, *, seed: int | None = None) -> Simulated:
         else:
             g1 = float(np.clip((mean_rr / rr_prev) ** 0.5, 0.6, 1.6))
             g1 *= 1 + r_sound.normal(0, 0.08)
-        g1 *= soften
+        g1 *= soften * s1_cause
         g2 = (1.0 + r_sound.normal(0, 0.06)) * (0.5 if premature else 1.0) * soften
         s1a = add_component(sounds, fs, s1, comp1 * 0.7, 0.2 * site["S1"] * g1, timbres["S1a"],
                             r_sound)
@@ -196,7 +208,8 @@ def generate(spec: CaseSpec, *, seed: int | None = None) -> Simulated:
                            r_sound)
         t1 = add_component(sounds, fs, s1 + m1_lead + t1_delay, comp1,
                            site["S1"] * site["T1"] * g1, timbres["T1"], r_sound)
-        a2 = add_component(sounds, fs, s1 + sys, comp2, site["S2"] * g2, timbres["A2"], r_sound)
+        a2 = add_component(sounds, fs, s1 + sys, comp2, site["S2"] * g2 * a2_cause,
+                           timbres["A2"], r_sound)
         p2 = add_component(sounds, fs, s1 + sys + split, comp2, site["S2"] * site["P2"] * g2,
                            timbres["P2"], r_sound)
         nxt = s1 + rr
@@ -261,6 +274,9 @@ def generate(spec: CaseSpec, *, seed: int | None = None) -> Simulated:
         a, z = int(round(b["s1_start_s"] * fs)), int(round(b["s1_end_s"] * fs))
         s1_power.append(np.mean(sounds[a:z] ** 2))
     s1_rms = float(np.sqrt(np.mean(s1_power))) if s1_power else float(np.abs(sounds).max() / 3)
+    # murmur levels refer to the S1 this site would have without the cause's own change
+    # of S1 loudness, so a soft S1 does not make the jet itself quieter
+    s1_rms /= s1_cause
 
     # --- murmur --------------------------------------------------------------------
     murmur = np.zeros(n)
@@ -274,7 +290,7 @@ def generate(spec: CaseSpec, *, seed: int | None = None) -> Simulated:
                                 + site_db) / 20) if plan.relative_power > 0 else 0.0
         murmur = unit * gain
         murmur_truth = _murmur_truth(plan, murmur, sounds, beat_rows, spans, profiles, fs,
-                                     spec, site_db, s1_rms, sinus)
+                                     spec, site_db, s1_rms, sinus, s1_cause, a2_cause)
 
     # --- body, chest wall, device --------------------------------------------------
     ripple = chain.draw_ripple(spec.device_ripple_db, r_noise)
@@ -417,6 +433,22 @@ def generate(spec: CaseSpec, *, seed: int | None = None) -> Simulated:
                      truth=truth, parts=parts)
 
 
+def _cause_gains(plan, sinus: bool) -> tuple[float, float]:
+    """S1 and A2 loudness factors for a murmur cause, scaled by severity (0-1)."""
+    if plan is None or plan.cause not in MURMUR_SOUND_GAINS:
+        return 1.0, 1.0
+    g = MURMUR_SOUND_GAINS[plan.cause]
+    if plan.cause == "narrowed_outflow":
+        severity = float(np.clip((plan.peak_velocity_m_s - 2.5) / 2.0, 0.0, 1.0))
+    elif plan.cause == "narrowed_inflow":
+        severity = float(np.clip((plan.peak_velocity_m_s - 1.2) / 1.0, 0.0, 1.0))
+        if not sinus:
+            severity *= 0.5  # no atrial kick: the leaflets are not held wide open
+    else:
+        severity = float(np.clip(plan.diameter_m / 0.006, 0.0, 1.0))
+    return (1.0 + (g["S1"] - 1.0) * severity, 1.0 + (g["A2"] - 1.0) * severity)
+
+
 def _precordial_motion(beat_rows: list[dict], n: int, fs: float, sinus: bool) -> np.ndarray:
     """Slow chest-wall movement with each beat (apical impulse), before the device.
 
@@ -443,7 +475,7 @@ def _round_row(row: dict) -> dict:
 
 
 def _murmur_truth(plan, murmur, sounds, beat_rows, spans, profiles, fs, spec, site_db, s1_rms,
-                  sinus) -> dict:
+                  sinus, s1_cause, a2_cause) -> dict:
     from eddyphone.simulate.murmurs import pitch_word, spectrum_summary
 
     summary = spectrum_summary(min(plan.break_frequency_hz, 0.4 * fs), fs)
@@ -504,8 +536,10 @@ def _murmur_truth(plan, murmur, sounds, beat_rows, spans, profiles, fs, spec, si
         "level_db_re_s1_at_reference_site": plan.level_db_re_s1,
         "site_offset_db": site_db,
         "grade": grade_from_level(level),
-        "grade_convention": "our own: murmur peak RMS re S1 RMS, edges -20/-13/-6/0/+6 dB; "
-                            "grades IV+ would need a palpable thrill",
+        "grade_convention": "our own: murmur peak RMS re the RMS of a normal S1 at this site, "
+                            "edges -20/-13/-6/0/+6 dB; grades IV+ would need a palpable thrill",
+        "s1_gain_from_cause": s1_cause,
+        "a2_gain_from_cause": a2_cause,
         "beat_level_sd_db": spread,
         "consistency": "varies with preceding cycle" if (not sinus and plan.phase == "systolic"
                                                         and plan.cause != "systolic_leak")

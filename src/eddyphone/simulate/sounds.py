@@ -48,6 +48,7 @@ class Timbre:
     mode_gain: float
     noise_gain: float
     peak_fraction: float
+    sharpness: float
 
     @classmethod
     def draw(cls, label: str, rng: np.random.Generator) -> Timbre:
@@ -60,6 +61,7 @@ class Timbre:
             mode_gain=rng.uniform(0.15, 0.5),
             noise_gain=rng.uniform(0.05, 0.3),
             peak_fraction=rng.uniform(0.2, 0.4),
+            sharpness=rng.uniform(1.5, 4.0),
         )
 
 
@@ -85,7 +87,7 @@ def component(duration_s: float, fs: float, timbre: Timbre, rng: np.random.Gener
     f0 = min(timbre.f_start_hz * scale, 0.45 * fs)
     f1 = min(timbre.f_end_hz * scale, 0.45 * fs)
     # gamma envelope peaking at peak_fraction, then a cosine taper to exactly zero
-    k = 2.0
+    k = timbre.sharpness
     p = timbre.peak_fraction * rng.uniform(0.85, 1.15)
     env = (u / p) ** k * np.exp(k * (1.0 - u / p))
     taper = np.where(u > 0.6, 0.5 * (1 + np.cos(np.pi * (u - 0.6) / 0.4)), 1.0)
