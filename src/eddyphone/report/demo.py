@@ -16,6 +16,8 @@ from html import escape
 from pathlib import Path
 from typing import Any
 
+from eddyphone.report import text
+
 AUDIO_SUFFIXES = (".wav", ".flac", ".ogg", ".hea")
 
 
@@ -119,7 +121,8 @@ def run_demo(source: str | Path, out_dir: str | Path, *,
 
 def _line(analysis: Any) -> str:
     s = analysis.summary()
-    rate = f"{s['heart_rate_bpm']:.0f} bpm" if s.get("heart_rate_bpm") else "rate not found"
+    hr = s.get("heart_rate_bpm")
+    rate = f"{hr:.0f} bpm" if text.finite_positive(hr) else "rate not found"
     murmur = s.get("murmur_description") or f"murmur {s.get('murmur')}"
     return f"{analysis.recording.stem}: {rate}, {murmur}"
 
@@ -160,7 +163,8 @@ def _write_index(out_dir: Path, source: Path, done: list, patients: list[Path],
         if cause and cause != "none":
             made += f" (made with: {cause.replace('_', ' ')} murmur)"
         top = analysis.explanation.top() if analysis.explanation is not None else None
-        rate = f"{s['heart_rate_bpm']:.0f}" if s.get("heart_rate_bpm") else "—"
+        hr = s.get("heart_rate_bpm")
+        rate = f"{hr:.0f}" if text.finite_positive(hr) else "—"
         found = s.get("murmur_description") or f"murmur {s.get('murmur', 'uncertain')}"
         cells = [
             f'<a href="{escape(html.name)}">{escape(analysis.recording.stem)}</a> · '

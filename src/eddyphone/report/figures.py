@@ -202,10 +202,20 @@ def overview_figure(analysis: Any, *, max_s: float = DETAIL_MAX_S):
                         fontsize=7.5, color=palette.STATE_COLOURS["S1"], fontweight="bold")
                 ax.plot([bt.s1_onset_s] * 2, [lim, 1.1 * lim], color=palette.STATE_COLOURS["S1"],
                         lw=0.8)
+        extra = [env_line]
         for s0, s1, _ in _skipped(analysis):
             if s1 > t0 and s0 < t1:
                 ax.axvspan(max(s0, t0), min(s1, t1), facecolor="none", hatch="////",
                            edgecolor=palette.MUTED, lw=0, zorder=0.5)
+                if len(extra) == 1:
+                    from matplotlib.patches import Patch
+
+                    extra.append(Patch(facecolor="none", hatch="////", edgecolor=palette.MUTED,
+                                       label="skipped (see the quality section)"))
+        if not any(sg.end_s > t0 and sg.start_s < t1 for sg in segments):
+            ax.text(0.5, 0.06, "no heart cycle was segmented here", transform=ax.transAxes,
+                    ha="center", fontsize=8.5, color=palette.INK,
+                    bbox={"facecolor": palette.PAPER, "edgecolor": palette.MUTED})
         ax.set_xlim(t0, t1)
         ax.set_ylabel("amplitude\n(conditioned, RMS = 1)")
         ax.tick_params(labelbottom=False)
@@ -215,7 +225,7 @@ def overview_figure(analysis: Any, *, max_s: float = DETAIL_MAX_S):
         ax.set_title(title, fontsize=9)
         ax.text(1.0, 1.01, "numbers as in the beats table", transform=ax.transAxes,
                 ha="right", va="bottom", fontsize=7, color=palette.MUTED)
-        _strip(strip, segments, t0, t1, extra=[env_line])
+        _strip(strip, segments, t0, t1, extra=extra)
         strip.set_xlabel("time (s)")
     return fig
 

@@ -18,7 +18,7 @@ from typing import Any
 
 import numpy as np
 
-from eddyphone.report import palette
+from eddyphone.report import palette, text
 from eddyphone.report.figures import (
     ENERGY_RANGE_DB,
     _median_bounds,
@@ -115,7 +115,7 @@ def site_rows(analyses: Sequence[Any], out_dir: Path | None = None
         top = a.explanation.top() if a.explanation is not None else None
         rows.append([
             a.recording.site or "—", a.recording.stem,
-            f"{s['heart_rate_bpm']:.0f}" if s.get("heart_rate_bpm") else "—",
+            f"{s['heart_rate_bpm']:.0f}" if text.finite_positive(s.get("heart_rate_bpm")) else "—",
             s.get("rhythm") or "—", _murmur_short(a),
             f"{m.pitch} ({m.dominant_frequency_hz:.0f} Hz)" if m else "—",
             f"{m.level_db_re_heart_sounds:+.1f}" if m else "—",

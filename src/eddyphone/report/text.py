@@ -23,6 +23,7 @@ provenance(analysis) -> list of (label, value)
 from __future__ import annotations
 
 import json
+import math
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 from datetime import datetime, timezone
@@ -41,12 +42,16 @@ def _fmt(value: Any, unit: str = "", nd: int = 0) -> str:
     return f"{text} {unit}".strip()
 
 
+def finite_positive(value: Any) -> bool:
+    return isinstance(value, (int, float)) and math.isfinite(value) and value > 0
+
+
 def headline(analysis: Any) -> list[tuple[str, str]]:
     """The facts a reader wants first: rate, rhythm, murmur, extra sounds, mechanism, quality."""
     s = analysis.summary()
     rhythm = getattr(analysis.segmentation, "rhythm", None)
     rows: list[tuple[str, str]] = []
-    if s.get("heart_rate_bpm"):
+    if finite_positive(s.get("heart_rate_bpm")):
         rows.append(("Heart rate", f"{s['heart_rate_bpm']:.0f} bpm"))
         regular = s.get("rhythm") or "—"
         if rhythm is not None and rhythm.rr_cv is not None:
@@ -269,14 +274,18 @@ def rhythm_lines(analysis: Any) -> list[str]:
     if seg is None:
         return ["Segmentation did not run."]
     r = seg.rhythm
+    if not finite_positive(r.heart_rate_bpm):
+        return [f"No heart rate was found ({len(seg.beats)} beats segmented); see the quality "
+                "section for why."]
     lines = [f"Heart rate {r.heart_rate_bpm:.0f} bpm ({r.method}), "
              f"{'irregular' if r.irregular else 'regular'} rhythm, "
              f"confidence {r.confidence:.2f}."]
     if r.rr_mean_s is not None:
         lines.append(f"Mean RR {1000 * r.rr_mean_s:.0f} ms over {len(r.rr_s)} intervals, "
                      f"variation {100 * (r.rr_cv or 0):.1f} %.")
-    lines.append(f"Median systolic interval (S1 onset to S2 onset) "
-                 f"{1000 * r.systolic_interval_s:.0f} ms.")
+    if finite_positive(r.systolic_interval_s):
+        lines.append(f"Median systolic interval (S1 onset to S2 onset) "
+                     f"{1000 * r.systolic_interval_s:.0f} ms.")
     lines.append(f"{len(seg.beats)} beats, {len(seg.segments)} segments; method {seg.method}.")
     return lines
 
