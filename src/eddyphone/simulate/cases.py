@@ -348,7 +348,8 @@ def demo_readme(index_rows: list[dict], specs: dict[str, CaseSpec]) -> str:
         "would need a palpable thrill, which no sound file can show.",
         "",
         "Regenerate with `eddyphone simulate --out sample_audio --overwrite`; the same "
-        "version and seed give the same bytes.",
+        "version and seed give the same bytes. How the sounds are made, the truth fields "
+        "and what is still unlike real recordings: `docs/simulator.md`.",
         "",
     ]
     return "\n".join(lines)
