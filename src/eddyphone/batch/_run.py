@@ -15,6 +15,7 @@ from eddyphone.batch.inputs import BatchItem, collect, content_hash
 from eddyphone.batch.store import (
     Store,
     atomic_write,
+    code_digest,
     harmonise,
     record_key,
     write_errors,
@@ -49,7 +50,8 @@ def run(inputs: Any, out_dir: str | Path, *, workers: int | None, scheduler: str
         store = Store(out_dir)
         _remove_temporaries(out_dir)
         digest = config.digest()
-        keys, hash_errors, hashes = _keys(items, digest, __version__)
+        code = code_digest()
+        keys, hash_errors, hashes = _keys(items, digest, f"{__version__}+{code}")
         records: dict[str, dict[str, Any]] = {}
         reused = set()
         for key in dict.fromkeys(k for k in keys if k is not None):
@@ -104,7 +106,7 @@ def run(inputs: Any, out_dir: str | Path, *, workers: int | None, scheduler: str
                   "reused": sum(k in reused for k in keys if k is not None),
                   "failed": len(errors), "succeeded": len(table)}
         run_info = {
-            "eddyphone_version": __version__, "config_digest": digest,
+            "eddyphone_version": __version__, "code_digest": code, "config_digest": digest,
             "config": config.to_dict(), "inputs": [str(i) for i in inputs],
             "scheduler": scheduler, "workers": None if scheduler else workers,
             "started_utc": _utc(started), "finished_utc": _utc(time.time()),

@@ -46,7 +46,7 @@ def analyse_task(task: Mapping[str, Any]) -> dict[str, Any]:
         ``want_json``), or 'error' with a one-line ``error`` and ``cacheable``
         (True for problems of the input itself, which a re-run would meet again).
     """
-    start = time.perf_counter()
+    start, cpu_start = time.perf_counter(), time.process_time()
     record: dict[str, Any] = {"key": task["key"], "path": task["path"]}
     try:
         data = _analyse(task)
@@ -57,11 +57,18 @@ def analyse_task(task: Mapping[str, Any]) -> dict[str, Any]:
                       cacheable=isinstance(exc, EddyphoneError))
     else:
         from eddyphone.batch.features import beat_rows, recording_row
+        from eddyphone.batch.store import code_digest
 
-        record.update(status="ok", features=recording_row(data), beats=beat_rows(data))
+        features = {}
+        for name, value in recording_row(data).items():
+            features[name] = value
+            if name == "eddyphone_version":
+                features["code_digest"] = code_digest()
+        record.update(status="ok", features=features, beats=beat_rows(data))
         if task.get("want_json"):
             record["analysis"] = data
     record["elapsed_s"] = round(time.perf_counter() - start, 4)
+    record["cpu_s"] = round(time.process_time() - cpu_start, 4)
     record["worker"] = f"{_hostname()}:{os.getpid()}"
     record["peak_rss_mb"] = _peak_rss_mb()
     return record

@@ -10,6 +10,7 @@ and writes the tables the same way.
 Public API
 ----------
 record_key(content_hash, config_digest, version, options) -> str
+code_digest() -> str
 Store(out_dir): .get(key), .put(record), .put_analysis_json(key, data),
                 .analysis_json_path(key)
 write_table(df, path, fmt)
@@ -18,6 +19,7 @@ write_errors(rows, path)
 
 from __future__ import annotations
 
+import functools
 import hashlib
 import json
 import os
@@ -33,11 +35,34 @@ ERROR_COLUMNS = ("path", "reason")
 
 def record_key(content_hash: str, config_digest: str, version: str,
                options: Mapping[str, Any]) -> str:
-    """Key of one recording's result: same content, settings, version and options."""
+    """Key of one recording's result: same content, settings, code and options.
+
+    ``version`` is the eddyphone version joined with :func:`code_digest`, so an
+    edited or updated installation never reuses results of the old code.
+    """
     text = json.dumps({"content": content_hash, "config": config_digest, "version": version,
                        "options": options, "record": RECORD_VERSION},
                       sort_keys=True, default=str)
     return hashlib.sha256(text.encode()).hexdigest()[:32]
+
+
+@functools.lru_cache(maxsize=1)
+def code_digest() -> str:
+    """Short SHA-256 of the installed eddyphone package (its modules and data files).
+
+    Two installations with the same digest compute the same results; it is read
+    once per process (the files do not change under a running analysis).
+    """
+    import eddyphone
+
+    root = Path(eddyphone.__file__).parent
+    digest = hashlib.sha256()
+    files = sorted(p for p in root.rglob("*") if p.is_file() and p.suffix in (".py", ".json")
+                   and "__pycache__" not in p.parts)
+    for p in files:
+        digest.update(p.relative_to(root).as_posix().encode() + b"\0")
+        digest.update(p.read_bytes())
+    return digest.hexdigest()[:16]
 
 
 def atomic_write(path: Path, data: bytes) -> None:
