@@ -549,7 +549,9 @@ def murmur_figure(analysis: Any, murmur: Any):
             pk = getattr(murmur, "peak_fraction", None)
             if pk is not None:
                 ax.axvline(100 * pk, color=palette.INK, lw=0.8, ls=(0, (3, 2)))
-                ax.text(100 * pk, 1.04, "peak", ha="center", va="bottom", fontsize=7)
+                side = "left" if pk < 0.1 else ("right" if pk > 0.9 else "center")
+                ax.text(100 * pk, 1.04, " peak ", ha=side,
+                        va="bottom", fontsize=7)
             for third in (100 / 3, 200 / 3):
                 ax.axvline(third, color=palette.GRID, lw=0.8, zorder=0)
             for k, word in enumerate(("early", "mid", "late")):

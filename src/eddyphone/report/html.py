@@ -183,7 +183,12 @@ def _listen(analysis: Any, renders: Mapping[str, Path], out_dir: Path | None) ->
                        "</div>")
     intro = ("<p>Use headphones or a good speaker: most heart-sound energy lies below "
              "200 Hz. The teaching renders are WAV files beside this report.</p>"
-             if renders else "")
+             if renders else "<p>Use headphones or a good speaker: most heart-sound energy "
+             "lies below 200 Hz.</p>")
+    missing = [RENDER_TITLES[k] for k in RENDER_TITLES if k not in renders]
+    if renders and missing:
+        intro += ("<p class=\"missing\">Not rendered (they need a segmented heart cycle): "
+                  + escape(", ".join(missing).lower()) + ".</p>")
     return intro + '<div class="listen">' + "".join(players) + "</div>"
 
 
