@@ -287,8 +287,8 @@ def _context_evidence(phase: str, pattern: str, basis: Basis,
                       low_viscosity=w("viscosity_ratio_low_viscosity")
                       * math.log(lv.viscosity_factor) + w("known_hematocrit_offset")))
     if basis.diameter_m is not None:
-        ref = _reference_diameter(basis, phase)
-        ratio = ref / basis.diameter_m
+        ratio = lv.diameter_factor
+        ref = ratio * basis.diameter_m
         offset = 0.0 if pattern == "leak" else w("known_diameter_offset")
         ev.append(_ev(f"supplied diameter {basis.diameter_m * 1e3:.3g} mm against a normal "
                       f"{ref * 1e3:.3g} mm: diameter factor {ratio:.2f} on Re",
@@ -320,8 +320,3 @@ def _context_evidence(phase: str, pattern: str, basis: Basis,
                       wall_irregularity=w("normal_lever_wall") * len(known_normal)))
     return ev
 
-
-def _reference_diameter(basis: Basis, phase: str) -> float:
-    from eddyphone.explain.config import lumen_for
-
-    return lumen_for(basis.site, phase).diameter_m
