@@ -53,6 +53,8 @@ def _css() -> str:
 body {{ margin:0; background:var(--paper); color:var(--ink);
   font: 15px/1.5 "DejaVu Sans", "Segoe UI", Helvetica, Arial, sans-serif; }}
 main {{ max-width: 1000px; margin: 0 auto; padding: 0 28px 60px; }}
+a {{ color: var(--s1); }}
+a:visited {{ color: #4f4a8a; }}
 header.top {{ border-bottom: 3px solid var(--ink); padding: 26px 0 12px; margin-bottom: 8px;
   display:flex; justify-content:space-between; align-items:flex-end; gap:16px; flex-wrap:wrap; }}
 header.top h1 {{ font-size: 25px; margin:0; letter-spacing:0.01em; }}
