@@ -492,3 +492,19 @@ def test_classic_loudness_changes_of_s1_and_a2():
     tight = generate(base.with_(murmur=MurmurSpec("narrowed_outflow", diameter_m=0.008,
                                                   velocity_m_s=4.6)))
     assert tight.truth["murmur"]["a2_gain_from_cause"] < 0.6
+
+
+def test_breath_held_and_rate_trend():
+    # breath held: no respiratory splitting changes (split stays in its expiration-level
+    # band, spread only by beat jitter); a steady trend moves the rate as asked
+    held = generate(CaseSpec(breath_held=True, breathing=0.0, rsa_swing_bpm=0.0,
+                             duration_s=20, seed=30, **{k: v for k, v in QUIET.items()
+                                                        if k != "breathing"}))
+    split = np.array([b["s2_split_s"] for b in held.truth["beats"]])
+    assert np.ptp(split) < 0.015
+    assert len({b["lung_volume"] for b in held.truth["beats"]}) == 1
+    slowing = generate(CaseSpec(heart_rate_bpm=100, heart_rate_trend_bpm_per_min=-60,
+                                rsa_swing_bpm=0.0, duration_s=20, seed=31, **QUIET))
+    rr = np.array(slowing.truth["rhythm"]["rr_s"])
+    first, last = 60 / rr[:5].mean(), 60 / rr[-5:].mean()
+    assert first - last == pytest.approx(18.0, abs=5.0)  # ~20 bpm over 20 s, edges trimmed

@@ -129,8 +129,10 @@ def benchmark_specs(n: int, *, seed: int = 0, duration_s: float = 15.0) -> list[
     shuffled); about a third of the cases have no murmur and the rest cycle through
     every murmur cause; sample rates 2, 3, 4 and 8 kHz; every device response; about
     one case in five is irregular; breathing everywhere, friction, hum and speech in
-    some, in normal and murmur cases alike; lung crackles or wheezes in one in five;
-    unit-to-unit device ripple, slow gain wander and DC offsets.
+    some, in normal and murmur cases alike (and about one in seven with the breath
+    held); lung crackles or wheezes in one in five; heart-rate trends, slow drift of
+    the sounds' pitch and loudness, unit-to-unit device ripple, slow gain wander and DC
+    offsets.
 
     Parameters
     ----------
@@ -160,12 +162,18 @@ def benchmark_specs(n: int, *, seed: int = 0, duration_s: float = 15.0) -> list[
         irregular = rng.uniform() < 0.2
         murmur = None if cause == "none" else _draw_murmur(cause, rng)
         sinus = not irregular
+        # about one case in seven is recorded with the breath held: no breath sounds,
+        # no sinus arrhythmia, no respiratory splitting
+        held = rng.uniform() < 0.15
         out.append(CaseSpec(
             heart_rate_bpm=float(np.round(hr[i], 1)),
             rhythm="irregular" if irregular else "sinus",
             ectopic_rate=float(rng.choice([0.0, 0.0, 0.0, 0.04, 0.1])),
             respiration_per_min=float(rng.uniform(10, 24)),
-            rsa_swing_bpm=float(rng.uniform(1, 10)),
+            breath_held=bool(held),
+            rsa_swing_bpm=0.0 if held else float(rng.uniform(1, 10)),
+            heart_rate_trend_bpm_per_min=float(rng.choice([0.0] * 5 + [rng.uniform(-30, 10)]))
+            if sinus else 0.0,
             duration_s=duration_s,
             fs=float(rng.choice([2000.0, 3000.0, 4000.0, 4000.0, 8000.0])),
             bit_depth=16,
@@ -179,7 +187,7 @@ def benchmark_specs(n: int, *, seed: int = 0, duration_s: float = 15.0) -> list[
             snr_db=float(np.round(snr[i], 2)),
             device=devices[i % len(devices)] if rng.uniform() < 0.8 else "steep_tilt",
             chest_wall_cutoff_hz=float(rng.uniform(150, 600)),
-            breathing=float(rng.uniform(0.1, 0.7)),
+            breathing=0.0 if held else float(rng.uniform(0.1, 0.7)),
             speech=float(rng.choice([0.0, 0.0, 0.0, rng.uniform(0.1, 0.5)])),
             friction_per_min=float(rng.choice([0.0, 0.0, rng.uniform(2, 20)])),
             hum_hz=rng.choice([None, None, None, None, 50.0, 60.0]),
@@ -188,6 +196,7 @@ def benchmark_specs(n: int, *, seed: int = 0, duration_s: float = 15.0) -> list[
             overdrive_db=float(rng.choice([0.0] * 9 + [rng.uniform(1, 6)])),
             site=str(rng.choice(SITES)),
             precordial_motion=float(rng.uniform(0.0, 0.8)),
+            timbre_drift=float(rng.uniform(0.0, 0.12)),
             respiratory_loudness=float(rng.uniform(0.0, 0.3)),
             adventitious=str(rng.choice(["none"] * 8 + ["crackles", "wheeze"])),
             adventitious_db=float(rng.uniform(-24, -6)),

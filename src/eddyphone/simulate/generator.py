@@ -11,7 +11,7 @@ from eddyphone import physiology
 from eddyphone._version import __version__
 from eddyphone.simulate import chain
 from eddyphone.simulate.murmurs import PHASE, plan_murmur, render_murmur
-from eddyphone.simulate.rhythm import beat_times, breathing_track
+from eddyphone.simulate.rhythm import BreathTrack, beat_times, breathing_track
 from eddyphone.simulate.sounds import Timbre, add_component
 from eddyphone.simulate.spec import CaseSpec
 from eddyphone.simulate.truth import (
@@ -95,6 +95,13 @@ def _streams(seed: int, k: int) -> list[np.random.Generator]:
     return [np.random.default_rng(s) for s in np.random.SeedSequence(seed).spawn(k)]
 
 
+def _slow(n: int, rng: np.random.Generator) -> np.ndarray:
+    # unit-sd noise on the rhythm grid wandering over about ten seconds
+    from eddyphone.simulate.rhythm import GRID_DT_S, _smooth_noise
+
+    return _smooth_noise(n, GRID_DT_S, 0.1, rng)
+
+
 def _within(value: float, window: tuple[float, float], margin: float = 0.002) -> float:
     # keep beat-to-beat jitter inside the published window (plus rounding to samples)
     return float(np.clip(value, window[0] + margin, window[1] - margin))
@@ -119,7 +126,7 @@ def generate(spec: CaseSpec, *, seed: int | None = None) -> Simulated:
     Simulated
     """
     seed = int(spec.seed if seed is None else seed)
-    r_rhythm, r_sound, r_murmur, r_noise, r_subject = _streams(seed, 5)
+    r_rhythm, r_sound, r_murmur, r_noise, r_subject, r_drift = _streams(seed, 6)
     fs = float(spec.fs)
     n = int(round(spec.duration_s * fs))
     mean_rr = 60.0 / spec.heart_rate_bpm
@@ -127,10 +134,18 @@ def generate(spec: CaseSpec, *, seed: int | None = None) -> Simulated:
 
     breath = breathing_track(-3.0 * mean_rr - 2.0, spec.duration_s + 4.0 * mean_rr + 2.0,
                              spec.respiration_per_min, r_rhythm)
+    if spec.breath_held:
+        breath = BreathTrack(t=breath.t, phase=np.full_like(breath.t, 0.5),
+                             volume=np.full_like(breath.t, 0.3),
+                             airflow=np.zeros_like(breath.t))
     beats = beat_times(heart_rate_bpm=spec.heart_rate_bpm, rhythm=spec.rhythm,
                        duration_s=spec.duration_s,
                        rsa_swing_bpm=spec.rsa_swing_bpm if sinus else 0.0,
-                       ectopic_rate=spec.ectopic_rate, breath=breath, rng=r_rhythm)
+                       ectopic_rate=spec.ectopic_rate, breath=breath, rng=r_rhythm,
+                       trend_bpm_per_min=spec.heart_rate_trend_bpm_per_min if sinus else 0.0)
+    # chest-piece pressure drifts slowly: pitch and loudness of the sounds follow
+    drift_t = breath.t
+    drift = np.tanh(_slow(len(drift_t), r_drift))
 
     # --- the subject: fixed for the whole recording --------------------------------
     _, sys_sd = physiology.systolic_interval_s(spec.heart_rate_bpm, sex=spec.sex)
@@ -200,18 +215,22 @@ def generate(spec: CaseSpec, *, seed: int | None = None) -> Simulated:
         else:
             g1 = float(np.clip((mean_rr / rr_prev) ** 0.5, 0.6, 1.6))
             g1 *= 1 + r_sound.normal(0, 0.08)
-        g1 *= soften * s1_cause
-        g2 = (1.0 + r_sound.normal(0, 0.06)) * (0.5 if premature else 1.0) * soften
+        d_beat = float(np.interp(s1, drift_t, drift)) * spec.timbre_drift
+        ps = 1.0 + d_beat
+        g1 *= soften * s1_cause * (1.0 + 1.5 * d_beat)
+        g2 = ((1.0 + r_sound.normal(0, 0.06)) * (0.5 if premature else 1.0) * soften
+              * (1.0 + 1.5 * d_beat))
         s1a = add_component(sounds, fs, s1, comp1 * 0.7, 0.2 * site["S1"] * g1, timbres["S1a"],
-                            r_sound)
+                            r_sound, pitch_scale=ps)
         m1 = add_component(sounds, fs, s1 + m1_lead, comp1, site["S1"] * g1, timbres["M1"],
-                           r_sound)
+                           r_sound, pitch_scale=ps)
         t1 = add_component(sounds, fs, s1 + m1_lead + t1_delay, comp1,
-                           site["S1"] * site["T1"] * g1, timbres["T1"], r_sound)
+                           site["S1"] * site["T1"] * g1, timbres["T1"], r_sound,
+                           pitch_scale=ps)
         a2 = add_component(sounds, fs, s1 + sys, comp2, site["S2"] * g2 * a2_cause,
-                           timbres["A2"], r_sound)
+                           timbres["A2"], r_sound, pitch_scale=ps)
         p2 = add_component(sounds, fs, s1 + sys + split, comp2, site["S2"] * site["P2"] * g2,
-                           timbres["P2"], r_sound)
+                           timbres["P2"], r_sound, pitch_scale=ps)
         nxt = s1 + rr
         row = {
             "index": i, "s1_start_s": s1a[0], "s1_end_s": max(m1[1], t1[1]),

@@ -110,7 +110,7 @@ def breathing_track(t_start_s: float, t_end_s: float, rate_per_min: float,
 
 def beat_times(*, heart_rate_bpm: float, rhythm: str, duration_s: float,
                rsa_swing_bpm: float, ectopic_rate: float, breath: BreathTrack,
-               rng: np.random.Generator) -> Beats:
+               rng: np.random.Generator, trend_bpm_per_min: float = 0.0) -> Beats:
     """S1 onsets of every beat from before 0 s to after ``duration_s``.
 
     Sinus rhythm: the instantaneous rate is the mean plus a slow wander (about 2%)
@@ -118,7 +118,8 @@ def beat_times(*, heart_rate_bpm: float, rhythm: str, duration_s: float,
     ``rsa_swing_bpm``), integrated to beat times, with a few ms of beat jitter.
     Irregular rhythm: independent RR intervals with a coefficient of variation of
     15-30%, like atrial fibrillation. Ectopic beats come at 55-75% of the cycle and
-    are followed by a compensatory pause.
+    are followed by a compensatory pause. ``trend_bpm_per_min`` makes a sinus rate drift
+    steadily (recovery after exercise), centred on the mean.
     """
     mean_rr = 60.0 / heart_rate_bpm
     t0 = -2.0 * mean_rr - rng.uniform(0, mean_rr)
@@ -126,7 +127,8 @@ def beat_times(*, heart_rate_bpm: float, rhythm: str, duration_s: float,
     if rhythm == "sinus":
         grid = breath.t
         hr = (heart_rate_bpm * (1.0 + 0.02 * _smooth_noise(len(grid), GRID_DT_S, 0.03, rng))
-              + rsa_swing_bpm * (np.clip(breath.volume, 0, 1.2) - 0.5))
+              + rsa_swing_bpm * (np.clip(breath.volume, 0, 1.2) - 0.5)
+              + trend_bpm_per_min * (grid - duration_s / 2) / 60.0)
         cycles = np.cumsum(np.clip(hr, 20.0, 250.0) / 60.0) * GRID_DT_S
         cycles -= np.interp(t0, grid, cycles)
         n_beats = int(np.floor(cycles[-1]))

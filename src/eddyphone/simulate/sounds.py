@@ -66,7 +66,7 @@ class Timbre:
 
 
 def component(duration_s: float, fs: float, timbre: Timbre, rng: np.random.Generator,
-              *, jitter: float = 0.08) -> np.ndarray:
+              *, jitter: float = 0.08, pitch_scale: float = 1.0) -> np.ndarray:
     """Samples of one component, peak about 1, zero outside ``[0, duration_s)``.
 
     Parameters
@@ -76,14 +76,15 @@ def component(duration_s: float, fs: float, timbre: Timbre, rng: np.random.Gener
     fs : float
         Sample rate in Hz.
     timbre : Timbre
-        Its character; ``jitter`` varies frequencies beat to beat by that fraction.
+        Its character; ``jitter`` varies frequencies beat to beat by that fraction and
+        ``pitch_scale`` scales them (slow drift over a recording).
     rng : numpy.random.Generator
         Source of beat-to-beat variation.
     """
     n = max(int(round(duration_s * fs)), 4)
     tau = np.arange(n) / fs
     u = tau / duration_s
-    scale = 1.0 + rng.uniform(-jitter, jitter)
+    scale = pitch_scale * (1.0 + rng.uniform(-jitter, jitter))
     f0 = min(timbre.f_start_hz * scale, 0.45 * fs)
     f1 = min(timbre.f_end_hz * scale, 0.45 * fs)
     # gamma envelope peaking at peak_fraction, then a cosine taper to exactly zero
@@ -114,14 +115,14 @@ def component(duration_s: float, fs: float, timbre: Timbre, rng: np.random.Gener
 
 def add_component(x: np.ndarray, fs: float, onset_s: float, duration_s: float,
                   amplitude: float, timbre: Timbre, rng: np.random.Generator,
-                  t_origin_s: float = 0.0) -> tuple[float, float]:
+                  t_origin_s: float = 0.0, pitch_scale: float = 1.0) -> tuple[float, float]:
     """Add a component to ``x`` (in place) and return its exact ``(start_s, end_s)``.
 
     ``t_origin_s`` is the time of sample 0 of ``x``. The onset is rounded to the
     sample grid and the returned times are those of the samples actually used.
     """
     i0 = int(round((onset_s - t_origin_s) * fs))
-    y = amplitude * component(duration_s, fs, timbre, rng)
+    y = amplitude * component(duration_s, fs, timbre, rng, pitch_scale=pitch_scale)
     i1 = i0 + len(y)
     a, b = max(i0, 0), min(i1, len(x))
     if b > a:

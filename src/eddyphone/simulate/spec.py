@@ -102,8 +102,14 @@ class CaseSpec:
         Fraction of beats that come early (premature beats with a pause after).
     respiration_per_min : float
         Breathing rate; drives sinus arrhythmia, S2 splitting and breath noise.
+    breath_held : bool
+        The subject holds the breath: lung volume stays put, no airflow, so no breath
+        sounds, no respiratory changes of rate, splitting or loudness.
     rsa_swing_bpm : float
         Peak-to-peak heart-rate swing over a breath (sinus rhythm only).
+    heart_rate_trend_bpm_per_min : float
+        Steady drift of a sinus rate through the recording (negative: slowing down, as
+        after exercise), centred on ``heart_rate_bpm``.
     duration_s, fs, bit_depth : float, float, int
         Length, sample rate (Hz) and PCM bit depth of the recording.
     sex : {'male', 'female'}
@@ -124,6 +130,9 @@ class CaseSpec:
         Relative weights (0-1) of breath sounds and room speech in the noise.
     friction_per_min : float
         Rate of friction and handling bursts.
+    timbre_drift : float
+        Slow drift (fraction) of the pitch and loudness of the heart sounds as the
+        chest-piece pressure changes during the recording.
     precordial_motion : float
         Amplitude of the slow chest-wall movement with each beat (apical impulse,
         mostly below 20 Hz) relative to the S1 peak; strong through low-frequency
@@ -161,7 +170,9 @@ class CaseSpec:
     rhythm: str = "sinus"
     ectopic_rate: float = 0.0
     respiration_per_min: float = 14.0
+    breath_held: bool = False
     rsa_swing_bpm: float = 4.0
+    heart_rate_trend_bpm_per_min: float = 0.0
     duration_s: float = 15.0
     fs: float = 4000.0
     bit_depth: int = 16
@@ -178,6 +189,7 @@ class CaseSpec:
     breathing: float = 0.3
     speech: float = 0.0
     friction_per_min: float = 0.0
+    timbre_drift: float = 0.05
     precordial_motion: float = 0.3
     respiratory_loudness: float = 0.15
     adventitious: str = "none"
@@ -200,6 +212,8 @@ class CaseSpec:
             (0.0 <= self.ectopic_rate <= 0.3, "ectopic_rate", "0-0.3"),
             (4.0 <= self.respiration_per_min <= 40.0, "respiration_per_min", "4-40"),
             (0.0 <= self.rsa_swing_bpm <= 20.0, "rsa_swing_bpm", "0-20 bpm"),
+            (-120.0 <= self.heart_rate_trend_bpm_per_min <= 120.0,
+             "heart_rate_trend_bpm_per_min", "-120-120 bpm/min"),
             (2.0 <= self.duration_s <= 600.0, "duration_s", "2-600 s"),
             (1000.0 <= self.fs <= 48000.0, "fs", "1000-48000 Hz"),
             (self.bit_depth in (8, 16, 24, 32), "bit_depth", "8, 16, 24 or 32"),
@@ -212,6 +226,7 @@ class CaseSpec:
             (0.0 <= self.speech <= 1.0, "speech", "0-1"),
             (0.0 <= self.friction_per_min <= 120.0, "friction_per_min", "0-120"),
             (0.0 <= self.precordial_motion <= 5.0, "precordial_motion", "0-5"),
+            (0.0 <= self.timbre_drift <= 0.3, "timbre_drift", "0-0.3"),
             (0.0 <= self.respiratory_loudness <= 0.6, "respiratory_loudness", "0-0.6"),
             (self.adventitious in ADVENTITIOUS, "adventitious", f"one of {ADVENTITIOUS}"),
             (-40.0 <= self.adventitious_db <= 10.0, "adventitious_db", "-40-10 dB"),
