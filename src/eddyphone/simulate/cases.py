@@ -110,15 +110,19 @@ def _draw_murmur(cause: str, rng: np.random.Generator) -> MurmurSpec:
         return MurmurSpec(cause, diameter_m=u(0.020, 0.026), velocity_m_s=u(1.3, 2.0),
                           hematocrit=u(0.38, 0.47), transition_factor=u(0.3, 0.6))
     if cause == "narrowed_outflow":
-        return MurmurSpec(cause, diameter_m=_d_from_area_cm2(u(0.6, 1.5)),
-                          velocity_m_s=u(2.5, 5.0), hematocrit=u(0.36, 0.48))
+        # severity ties the two together: a smaller valve area gives a faster jet
+        sev = u(0.0, 1.0)
+        return MurmurSpec(cause, diameter_m=_d_from_area_cm2(1.5 - 0.9 * sev + u(-0.1, 0.1)),
+                          velocity_m_s=float(np.clip(2.5 + 2.5 * sev + u(-0.3, 0.3), 2.2, 5.5)),
+                          hematocrit=u(0.36, 0.48))
     if cause == "systolic_leak":
         return MurmurSpec(cause, diameter_m=u(0.003, 0.008), velocity_m_s=u(4.0, 6.0))
     if cause == "diastolic_leak":
         return MurmurSpec(cause, diameter_m=u(0.003, 0.007), velocity_m_s=u(3.0, 4.8))
     if cause == "narrowed_inflow":
-        return MurmurSpec(cause, diameter_m=_d_from_area_cm2(u(0.8, 2.0)),
-                          velocity_m_s=u(1.5, 2.5))
+        sev = u(0.0, 1.0)
+        return MurmurSpec(cause, diameter_m=_d_from_area_cm2(2.0 - 1.2 * sev + u(-0.1, 0.1)),
+                          velocity_m_s=float(np.clip(1.5 + 1.0 * sev + u(-0.15, 0.15), 1.3, 2.7)))
     return MurmurSpec("continuous", diameter_m=u(0.003, 0.007), velocity_m_s=u(3.5, 5.0))
 
 
