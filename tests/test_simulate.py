@@ -508,3 +508,12 @@ def test_breath_held_and_rate_trend():
     rr = np.array(slowing.truth["rhythm"]["rr_s"])
     first, last = 60 / rr[:5].mean(), 60 / rr[-5:].mean()
     assert first - last == pytest.approx(18.0, abs=5.0)  # ~20 bpm over 20 s, edges trimmed
+
+
+def test_flow_given_instead_of_velocity():
+    # continuity Q = v pi d^2 / 4 (common practice): 10 L/min through 1.0 cm -> 2.12 m/s
+    q = 10e-3 / 60
+    plan = murmurs.plan_murmur(MurmurSpec("high_flow", diameter_m=0.010, velocity_m_s=None,
+                                          flow_m3_s=q))
+    assert plan.peak_velocity_m_s == pytest.approx(q / (np.pi * 0.010**2 / 4))
+    assert plan.peak_velocity_m_s == pytest.approx(2.122, abs=0.001)
