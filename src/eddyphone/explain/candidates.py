@@ -319,4 +319,3 @@ def _context_evidence(phase: str, pattern: str, basis: Basis,
                       "without a raised Re points to walls that trip turbulence early",
                       wall_irregularity=w("normal_lever_wall") * len(known_normal)))
     return ev
-
