@@ -76,6 +76,10 @@ class Analysis:
             "findings": self.findings.to_list() if self.findings is not None else [],
             "summary": self.summary(),
             "mechanisms": self.explanation.to_list() if self.explanation is not None else [],
+            "assumptions": list(self.explanation.assumptions)
+            if self.explanation is not None else [],
+            "explanation_inputs": self.explanation.to_dict()["inputs"]
+            if self.explanation is not None else {},
             "cautions": list(GENERAL_CAUTIONS)
             + (list(self.explanation.cautions) if self.explanation is not None else []),
             "config": {**self.config.to_dict(), "digest": self.config.digest()},

@@ -4,6 +4,8 @@ from __future__ import annotations
 
 import argparse
 
+from eddyphone.cli._context import add_context_arguments, context_values
+
 NAME = "analyze"
 HELP = "segment, describe and explain recordings; write JSON, CSV and reports"
 ORDER = 10
@@ -26,21 +28,10 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
                         help="JSON file of settings, by stage section (see docs/configuration.md)")
     parser.add_argument("--channel", type=int,
                         help="channel to analyse (default: the loudest in the heart band)")
-    group = parser.add_argument_group("patient context (all optional; used by the explanations)")
-    group.add_argument("--hematocrit", type=float, metavar="FRACTION",
-                       help="red-cell volume fraction, e.g. 0.42")
-    group.add_argument("--heart-rate-bpm", type=float, metavar="BPM")
-    group.add_argument("--cardiac-output-l-min", type=float, metavar="L_MIN")
-    group.add_argument("--stroke-volume-ml", type=float, metavar="ML")
-    group.add_argument("--diameter-mm", type=float, metavar="MM",
-                       help="diameter of the valve orifice or vessel under the stethoscope")
-    group.add_argument("--age-years", type=float, metavar="YEARS")
-    group.add_argument("--site", help="auscultation site (aortic, pulmonic, tricuspid, mitral, "
-                       "carotid, femoral, renal, fistula, other)")
-    group.add_argument("--posture", help="posture during the recording (e.g. supine, sitting)")
-    group.add_argument("--state", action="append", default=[], metavar="STATE",
-                       help="known state, repeatable: exercise, pregnancy, fever, anemia, "
-                       "thyrotoxicosis, sepsis, arteriovenous_fistula")
+    add_context_arguments(parser, "patient context (all optional; used by the explanations)")
+    parser.add_argument("--posture", help="posture during the recording (e.g. supine, sitting)")
+    parser.add_argument("--explain", action="store_true",
+                        help="print the ranked mechanisms with their physics for each recording")
     patient = parser.add_argument_group("patient view")
     patient.add_argument("--patient", metavar="ID",
                          help="treat all recordings as one patient's sites; adds a patient summary")
@@ -91,6 +82,10 @@ def run(args: argparse.Namespace) -> int:
             print(json.dumps(analysis.to_dict(), indent=2, allow_nan=False))
         else:
             print(_one_line(analysis))
+            if args.explain and analysis.explanation is not None:
+                from eddyphone.explain import render_text
+
+                print(render_text(analysis.explanation))
     if out_dir is not None and analyses and (args.patient or args.manifest):
         _patient_views(analyses, out_dir, args)
     if out_dir is not None and analyses:
@@ -152,11 +147,7 @@ def _analyse_one(path: str, meta: dict, args: argparse.Namespace, config):
     rec = load(path, channel=args.channel, site=site, posture=meta.pop("posture", None),
                patient=meta.pop("patient", None), metadata=meta or None)
     try:
-        context = PatientContext(
-            hematocrit=args.hematocrit, heart_rate_bpm=args.heart_rate_bpm,
-            cardiac_output_l_min=args.cardiac_output_l_min,
-            stroke_volume_ml=args.stroke_volume_ml, diameter_mm=args.diameter_mm,
-            age_years=args.age_years, site=_known_site(rec.site), states=tuple(args.state))
+        context = PatientContext(**{**context_values(args), "site": _known_site(rec.site)})
     except ParameterError as exc:
         raise InputError(path, str(exc), "correct the option and run again") from None
     return analyze(rec, context=context, config=config)

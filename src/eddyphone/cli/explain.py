@@ -8,6 +8,8 @@ from __future__ import annotations
 
 import argparse
 
+from eddyphone.cli._context import add_context_arguments, context_values
+
 NAME = "explain"
 HELP = ("rank the physical mechanisms of a murmur: from a saved analysis JSON, or from a "
         "murmur described by hand")
@@ -38,21 +40,7 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     m.add_argument("--with-sound", action="append", default=[], metavar="KIND",
                    choices=("S3", "S4", "split_S2", "ejection_click", "opening_snap"),
                    help="companion sound, repeatable")
-    group = parser.add_argument_group("patient context (all optional)")
-    group.add_argument("--hematocrit", type=float, metavar="FRACTION",
-                       help="red-cell volume fraction, e.g. 0.42")
-    group.add_argument("--heart-rate-bpm", type=float, metavar="BPM")
-    group.add_argument("--cardiac-output-l-min", type=float, metavar="L_MIN")
-    group.add_argument("--stroke-volume-ml", type=float, metavar="ML")
-    group.add_argument("--diameter-mm", type=float, metavar="MM",
-                       help="diameter of the valve orifice or vessel under the stethoscope")
-    group.add_argument("--age-years", type=float, metavar="YEARS")
-    group.add_argument("--site", help="auscultation site (aortic, pulmonic, tricuspid, mitral, "
-                       "carotid, femoral, renal, fistula, other)")
-    group.add_argument("--state", action="append", default=[], metavar="STATE",
-                       help="known state, repeatable: exercise, pregnancy, fever, anemia, "
-                       "thyrotoxicosis, sepsis, arteriovenous_fistula")
-
+    add_context_arguments(parser, "patient context (all optional)")
 
 _ROMAN = {"I": 1, "II": 2, "III": 3, "IV": 4, "V": 5, "VI": 6}
 
@@ -80,10 +68,7 @@ def run(args: argparse.Namespace) -> int:
     from eddyphone.explain import explain, render_text
     from eddyphone.explain.inputs import described_murmur, findings_from_list
 
-    given = {k: getattr(args, k) for k in ("hematocrit", "heart_rate_bpm",
-                                          "cardiac_output_l_min", "stroke_volume_ml",
-                                          "diameter_mm", "age_years", "site")}
-    given["states"] = tuple(args.state)
+    given = context_values(args)
     saved_context: dict = {}
     if args.result:
         path = Path(args.result)
