@@ -206,6 +206,7 @@ def benchmark_specs(n: int, *, seed: int = 0, duration_s: float = 15.0) -> list[
             adventitious_db=float(rng.uniform(-24, -6)),
             device_ripple_db=float(rng.uniform(0.0, 3.0)),
             gain_wander_db=float(rng.choice([0.0, 0.0, rng.uniform(1, 6)])),
+            noise_wander_db=float(rng.choice([0.0, rng.uniform(1, 8)])),
             dc_offset=float(rng.choice([0.0] * 4 + [rng.uniform(-0.02, 0.02)])),
             seed=int(seed * 100003 + i),
             note=f"benchmark case {i}",

@@ -155,6 +155,20 @@ def apply_device(x: np.ndarray, fs: float, device: str, *, ripple: tuple = ()) -
     return y[k: k + len(x)]
 
 
+def group_delay_ms(fs: float, device: str, f_hz: tuple[float, ...], *, ripple: tuple = ()
+                   ) -> dict[str, float]:
+    """Group delay in ms of the device filter at the given frequencies.
+
+    Truth times are at the source; sounds in the recording arrive this much later
+    (minimum-phase filters delay most where the response changes fastest).
+    """
+    n_fft = int(2 ** np.ceil(np.log2(fs)))
+    f = np.fft.rfftfreq(n_fft, 1.0 / fs)
+    h = _minimum_phase_fir(device_gain_db(device, f) + ripple_db(ripple, f), n_fft)
+    w, gd = signal.group_delay((h, [1.0]), w=np.asarray(f_hz, dtype=float), fs=fs)
+    return {f"{q:g}_hz": float(d / fs * 1000.0) for q, d in zip(w, gd, strict=True)}
+
+
 def chest_wall(x: np.ndarray, fs: float, cutoff_hz: float) -> np.ndarray:
     """Second-order low-pass standing for the tissue between heart and chest surface."""
     sos = signal.butter(2, min(cutoff_hz, 0.45 * fs), "low", fs=fs, output="sos")

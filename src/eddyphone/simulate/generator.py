@@ -340,6 +340,14 @@ def generate(spec: CaseSpec, *, seed: int | None = None) -> Simulated:
     stationary = comp["background"] + comp["breathing"] + comp["speech"]
     stationary += r_noise.standard_normal(n) * 1e-3 * np.sqrt(
         chain.band_power(stationary, fs, SNR_BAND_HZ) + 1e-30)
+    if spec.noise_wander_db > 0:
+        # the room and the body are not steady: the background level drifts over seconds
+        # (the mean power, and so the SNR, stays as asked)
+        level = _slow(len(breath.t), r_drift)
+        level = 10 ** (spec.noise_wander_db * np.tanh(level) / 20)
+        level = np.interp(t, breath.t, level)
+        stationary = stationary * level
+        comp = {k: v * level for k, v in comp.items()}
     scale = np.sqrt(p_card / max(chain.band_power(stationary, fs, SNR_BAND_HZ), 1e-30)
                     * 10 ** (-spec.snr_db / 10))
     stationary *= scale
@@ -445,6 +453,8 @@ def generate(spec: CaseSpec, *, seed: int | None = None) -> Simulated:
         },
         "device": {"response": spec.device, "note": chain.DEVICE_NOTES[spec.device],
                    "ripple_db": spec.device_ripple_db,
+                   "group_delay_ms": chain.group_delay_ms(fs, spec.device, (50.0, 150.0),
+                                                          ripple=ripple),
                    "chest_wall_cutoff_hz": spec.chest_wall_cutoff_hz},
     }
     parts = {"cardiac": cardiac * gain, "murmur": murmur_dev * gain, "noise": noise * gain}

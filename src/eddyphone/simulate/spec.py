@@ -146,6 +146,9 @@ class CaseSpec:
         Their peak level relative to the peak of the heart sounds, dB.
     device_ripple_db : float
         Peak deviation of this chest piece from its model's response, dB.
+    noise_wander_db : float
+        Peak slow change of the background-noise level over seconds, dB (the mean
+        level, and so ``snr_db``, is kept).
     gain_wander_db : float
         Peak slow change of gain (chest-piece pressure, automatic gain), dB.
     dc_offset : float
@@ -195,6 +198,7 @@ class CaseSpec:
     adventitious: str = "none"
     adventitious_db: float = -12.0
     device_ripple_db: float = 0.0
+    noise_wander_db: float = 0.0
     gain_wander_db: float = 0.0
     dc_offset: float = 0.0
     hum_hz: float | None = None
@@ -232,6 +236,7 @@ class CaseSpec:
             (-40.0 <= self.adventitious_db <= 10.0, "adventitious_db", "-40-10 dB"),
             (0.0 <= self.device_ripple_db <= 10.0, "device_ripple_db", "0-10 dB"),
             (0.0 <= self.gain_wander_db <= 12.0, "gain_wander_db", "0-12 dB"),
+            (0.0 <= self.noise_wander_db <= 12.0, "noise_wander_db", "0-12 dB"),
             (-0.2 <= self.dc_offset <= 0.2, "dc_offset", "-0.2-0.2"),
             (self.hum_hz is None or 40.0 <= self.hum_hz <= 70.0, "hum_hz",
              "None, 50 or 60 Hz"),
