@@ -517,3 +517,15 @@ def test_flow_given_instead_of_velocity():
                                           flow_m3_s=q))
     assert plan.peak_velocity_m_s == pytest.approx(q / (np.pi * 0.010**2 / 4))
     assert plan.peak_velocity_m_s == pytest.approx(2.122, abs=0.001)
+
+
+def test_noise_level_wanders_but_mean_snr_holds():
+    spec = CaseSpec(snr_db=12.0, noise_wander_db=6.0, duration_s=20, seed=40, breathing=0.0)
+    sim = generate(spec)
+    assert sim.truth["noise"]["snr_db"] == pytest.approx(12.0, abs=0.2)
+    noise = sim.parts["noise"]
+    fs = int(sim.fs)
+    win = [10 * np.log10(np.mean(noise[i: i + fs] ** 2)) for i in range(0, len(noise) - fs, fs)]
+    assert np.ptp(win) > 3.0
+    assert generate(spec.with_(noise_wander_db=0.0)).truth["noise"]["snr_db"] == pytest.approx(
+        12.0, abs=0.2)
