@@ -66,6 +66,10 @@ class FindingsConfig:
     excess_db : float
         A bin is active when its median excess over the reference (across beats)
         reaches this many dB.
+    min_excess_db, z_active : float
+        A bin is also active at ``min_excess_db`` or more when that excess stands
+        ``z_active`` standard errors (across beats) clear of zero: long recordings
+        show fainter murmurs.
     beat_excess_db : float
         A beat shows the murmur when its mean excess over the murmur's active bins
         reaches this many dB.
@@ -103,8 +107,10 @@ class FindingsConfig:
     hop_s: float = 0.004
     reference_percentile: float = 20.0
     excess_db: float = 4.0
+    min_excess_db: float = 2.0
+    z_active: float = 5.0
     beat_excess_db: float = 3.0
-    min_murmur_s: float = 0.06
+    min_murmur_s: float = 0.04
     min_sustained_s: float = 0.04
     min_low_murmur_s: float = 0.1
     present_consistency: float = 0.6

@@ -8,9 +8,17 @@ import numpy as np
 
 from eddyphone.errors import InputError
 from eddyphone.findings.config import FindingsConfig
-from eddyphone.findings.measures import beat_profiles, spectrogram
+from eddyphone.findings.measures import (
+    MIN_WINDOW_S,
+    analysis_frame_s,
+    beat_profiles,
+    spectrogram,
+)
 from eddyphone.findings.murmur import find_murmurs
 from eddyphone.findings.records import BeatMeasures, Findings
+
+#: The frame length MIN_WINDOW_S was set for.
+DEFAULT_FRAME_S = 0.032
 
 
 def _usable_beats(beats: Sequence, quality) -> list:
@@ -65,22 +73,18 @@ def describe(x: np.ndarray, fs: float, segmentation, *, quality=None,
                          "pass the 1-D conditioned samples")
     beats_all = list(getattr(segmentation, "beats", segmentation) or ())
     beats = _usable_beats(beats_all, quality)
-    spec = spectrogram(x, fs, frame_s=cfg.frame_s, hop_s=cfg.hop_s)
-    prof = beat_profiles(spec, beats, cfg)
+    frame_s = analysis_frame_s(beats, cfg.frame_s)
+    spec = spectrogram(x, fs, frame_s=frame_s, hop_s=min(cfg.hop_s, frame_s / 4.0))
+    prof = beat_profiles(spec, beats, cfg,
+                         min_window_s=MIN_WINDOW_S * frame_s / DEFAULT_FRAME_S)
     search = find_murmurs(spec, prof, cfg)
     extras = find_extra_sounds(x, fs, beats, cfg)
-    if any(m.phase in ("diastolic", "continuous") for m in search.murmurs):
-        # S3 and S4 cannot be told from a diastolic murmur's own swells (an inflow
-        # murmur's presystolic accent looks like S4): not reported then
-        from dataclasses import replace
-
-        extras = tuple(replace(e, id=f"x{i + 1}") for i, e in enumerate(
-            e for e in extras if e.kind not in ("S3", "S4")))
+    murmurs, extras, notes = _resolve_extra_vs_murmur(search.murmurs, extras)
 
     measures = _beat_measures(prof, search, len(beats_all))
     n = prof.n_beats
-    present = [m for m in search.murmurs if m.presence == "present"]
-    uncertain = [m for m in search.murmurs if m.presence == "uncertain"]
+    present = [m for m in murmurs if m.presence == "present"]
+    uncertain = [m for m in murmurs if m.presence == "uncertain"]
     if n < cfg.min_beats:
         presence = "uncertain"
         reason = (f"only {n} usable beat(s) with both windows (need {cfg.min_beats}); "
@@ -100,10 +104,41 @@ def describe(x: np.ndarray, fs: float, segmentation, *, quality=None,
         presence = "absent"
         reason = (f"systolic and diastolic windows stay within {cfg.excess_db:g} dB of the "
                   f"quiet level in {n} usable beats")
-        if search.rejected:
-            reason += "; " + "; ".join(search.rejected[:2])
-    return Findings(murmurs=search.murmurs, extra_sounds=extras, beat_measures=measures,
+        rejected = list(notes) + list(search.rejected)
+        if rejected:
+            reason += "; " + "; ".join(rejected[:2])
+    return Findings(murmurs=murmurs, extra_sounds=extras, beat_measures=measures,
                     presence=presence, presence_reason=reason)
+
+
+def _resolve_extra_vs_murmur(murmurs, extras):
+    """Decide between a diastolic murmur and an S3/S4 found at the same place.
+
+    A short (at most 40 % of diastole), low-pitched early-diastolic excess where an
+    S3 was found is the S3, not a murmur; likewise late-diastolic with an S4. A
+    longer diastolic murmur keeps its place and the S3/S4 is not reported (an
+    inflow murmur's presystolic accent looks like an S4).
+    """
+    from dataclasses import replace
+
+    kinds = {e.kind for e in extras}
+    keep, notes, drop_sounds = [], [], set()
+    for m in murmurs:
+        if m.phase in ("diastolic", "continuous"):
+            short_low = (m.pitch == "low" and m.phase == "diastolic"
+                         and m.end_fraction - m.onset_fraction <= 0.4)
+            if short_low and "S3" in kinds and m.onset_fraction <= 0.34:
+                notes.append("a short low-pitched early-diastolic excess is the S3")
+                continue
+            if short_low and "S4" in kinds and m.end_fraction >= 0.66:
+                notes.append("a short low-pitched late-diastolic excess is the S4")
+                continue
+            drop_sounds |= {"S3", "S4"}
+        keep.append(m)
+    keep = [replace(m, id=f"m{i + 1}") for i, m in enumerate(keep)]
+    extras = tuple(replace(e, id=f"x{i + 1}") for i, e in enumerate(
+        e for e in extras if e.kind not in drop_sounds))
+    return tuple(keep), extras, notes
 
 
 def _beat_measures(prof, search, n_all: int) -> tuple[BeatMeasures, ...]:

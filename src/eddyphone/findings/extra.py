@@ -50,6 +50,10 @@ CLICK_PITCH_RATIO = 1.5
 #: must fall SHORT_FALL_DB within SHORT_FALL_S of the peak (a murmur onset does not).
 SHORT_FALL_S = 0.03
 SHORT_FALL_DB = 6.0
+#: A heart sound keeps its place in the cycle: the interquartile range of its timing
+#: across beats must stay within this many ms (our own limit; the simulated and
+#: textbook intervals vary by a few ms at a steady rate).
+MAX_TIMING_IQR_MS = 20.0
 #: Fraction of usable beats that must show an extra sound for it to be reported.
 MIN_FRACTION = 0.5
 #: Minimum resolvable A2-P2 interval (s): closer components fuse (common practice,
@@ -190,9 +194,15 @@ def find_extra_sounds(x: np.ndarray, fs: float, beats: Sequence,
                                                    "opening_snap")}
     splits: list[float] = []
     for bt in full:
-        q_low = _quiet_level(low, rate, bt)
-        q_high = _quiet_level(high, rate, bt)
         s2, s1n = bt.s2_onset_s, bt.next_s1_onset_s
+        # reference: the beat's quiet level, or the typical level of the window the
+        # sound falls in when that is higher (a murmur there must be out-shouted)
+        q_low, q_high = _quiet_level(low, rate, bt), _quiet_level(high, rate, bt)
+        dia_low = float(np.median(_seg(low, rate, bt.s2_offset_s, s1n)[0]))
+        dia_high = float(np.median(_seg(high, rate, bt.s2_offset_s, s1n)[0]))
+        sys_high = float(np.median(_seg(high, rate, bt.s1_offset_s, s2)[0]))
+        q_low = max(q_low, dia_low)
+        q_dia_high, q_sys_high = max(q_high, dia_high), max(q_high, sys_high)
         # S3: 120-180 ms after A2 (S2 onset), physiology.S3_AFTER_A2_S
         lo, hi = phy.S3_AFTER_A2_S
         win = (max(s2 + lo - tol, bt.s2_offset_s), min(s2 + hi + 0.04 + tol, s1n - 0.1))
@@ -211,7 +221,8 @@ def find_extra_sounds(x: np.ndarray, fs: float, beats: Sequence,
         lo, hi = phy.EJECTION_CLICK_AFTER_S1_S
         win = (bt.s1_onset_s + lo, min(bt.s1_onset_s + hi + 0.02 + tol, s2 - 0.03))
         if win[1] - win[0] > 0.02:
-            ev = _event(high, rate, win, q_high, (bt.s1_onset_s, bt.s1_onset_s + lo - tol),
+            ev = _event(high, rate, win, q_sys_high,
+                        (bt.s1_onset_s, bt.s1_onset_s + lo - tol),
                         fall_s=SHORT_FALL_S, fall_db=SHORT_FALL_DB)
             if ev is not None:
                 s1_t = bt.s1_onset_s + float(np.argmax(
@@ -223,7 +234,7 @@ def find_extra_sounds(x: np.ndarray, fs: float, beats: Sequence,
         lo, hi = phy.OPENING_SNAP_AFTER_A2_S
         win = (s2 + lo + 0.01, min(s2 + hi + tol, s1n - 0.08))
         if win[1] - win[0] > 0.02:
-            ev = _event(high, rate, win, q_high, (s2 - 0.005, s2 + 0.03),
+            ev = _event(high, rate, win, q_dia_high, (s2 - 0.005, s2 + 0.03),
                         fall_s=SHORT_FALL_S, fall_db=SHORT_FALL_DB)
             if ev is not None:
                 a2_t = s2 + float(np.argmax(_seg(mid, rate, s2 - 0.005, s2 + 0.04)[0])) / rate
@@ -252,6 +263,9 @@ def find_extra_sounds(x: np.ndarray, fs: float, beats: Sequence,
         frac = len(times) / n
         if frac < MIN_FRACTION:
             continue
+        iqr = float(np.subtract(*np.percentile(times, [75, 25])))
+        if iqr > MAX_TIMING_IQR_MS:
+            continue  # not time-locked to the cycle: noise peaks, not a heart sound
         (lo, hi), ref, src = windows[kind]
         out.append(ExtraSound(
             id="", kind=kind, confidence=_conf(frac, n), timing_ms=float(np.median(times)),
@@ -259,7 +273,7 @@ def find_extra_sounds(x: np.ndarray, fs: float, beats: Sequence,
             details={"window_ms": [round(1000 * lo), round(1000 * hi)],
                      "window_source": src, "tolerance_ms": round(1000 * tol),
                      "beats_with_sound": len(times), "beats_used": n,
-                     "timing_sd_ms": float(np.std(times))}))
+                     "timing_sd_ms": float(np.std(times)), "timing_iqr_ms": iqr}))
     if len(splits) / n >= MIN_FRACTION:
         sp = np.array(splits)
         spread = float(np.percentile(sp, 90) - np.percentile(sp, 10))

@@ -23,8 +23,9 @@ import numpy as np
 
 from eddyphone.findings.config import ANALYSIS_BANDS_HZ, FindingsConfig
 
-#: Shortest window measured (s): shorter ones would be dominated by the 32-ms
-#: analysis frames reaching into S1 or S2.
+#: Shortest window measured (s) with the default 32-ms frames: shorter ones would be
+#: dominated by frames reaching into S1 or S2 (:func:`analysis_frame_s` shortens the
+#: frames at fast rates, and the shortest window with them: 1.5 frames).
 MIN_WINDOW_S = 0.05
 
 #: Window indices in :class:`Profiles` arrays.
@@ -91,14 +92,15 @@ def spectrogram(x: np.ndarray, fs: float, *, frame_s: float = 0.032, hop_s: floa
     return Spectrogram(t=t, f=f, power=power, band_power=bp.astype(float), bands_hz=bands)
 
 
-def beat_windows(beat, guard_s: float) -> tuple[tuple[float, float] | None,
-                                                tuple[float, float] | None]:
+def beat_windows(beat, guard_s: float, min_window_s: float | None = None
+                 ) -> tuple[tuple[float, float] | None, tuple[float, float] | None]:
     """Systolic and diastolic analysis windows of a beat, trimmed by ``guard_s``.
 
     The guard is at most 15 % of the window at each end (short systoles at fast
-    rates). A window shorter than :data:`MIN_WINDOW_S` after trimming, or a missing
-    diastole (no next S1), gives None.
+    rates). A window shorter than ``min_window_s`` (default :data:`MIN_WINDOW_S`)
+    after trimming, or a missing diastole (no next S1), gives None.
     """
+    shortest = MIN_WINDOW_S if min_window_s is None else min_window_s
     def trim(a: float, b: float) -> tuple[float, float]:
         g = min(guard_s, 0.15 * max(b - a, 0.0))
         return a + g, b - g
@@ -106,7 +108,7 @@ def beat_windows(beat, guard_s: float) -> tuple[tuple[float, float] | None,
     sys = trim(beat.s1_offset_s, beat.s2_onset_s)
     nxt = getattr(beat, "next_s1_onset_s", None)
     dia = None if nxt is None else trim(beat.s2_offset_s, nxt)
-    ok = [w if w is not None and w[1] - w[0] >= MIN_WINDOW_S else None for w in (sys, dia)]
+    ok = [w if w is not None and w[1] - w[0] >= shortest else None for w in (sys, dia)]
     return ok[0], ok[1]
 
 
@@ -139,7 +141,9 @@ class Profiles:
     beat_index : ndarray of int
         ``Beat.index`` of each row.
     windows_s : ndarray, shape (beats, 2, 2)
-        Start and end (s) of the systolic and diastolic windows.
+        Start and end (s) of the systolic and diastolic windows (trimmed).
+    guard_s : ndarray, shape (beats, 2)
+        What was trimmed from each end of each window (s).
     power : ndarray, shape (beats, 2, bands, bins)
         Mean band power per bin.
     reference : ndarray, shape (beats, bands)
@@ -150,6 +154,7 @@ class Profiles:
 
     beat_index: np.ndarray
     windows_s: np.ndarray
+    guard_s: np.ndarray
     power: np.ndarray
     reference: np.ndarray
     s1_power: np.ndarray
@@ -174,7 +179,17 @@ def _mean_between(spec: Spectrogram, a: float, b: float) -> np.ndarray:
     return spec.band_power[:, i0:i1].mean(axis=1)
 
 
-def beat_profiles(spec: Spectrogram, beats: Sequence, config: FindingsConfig) -> Profiles:
+def analysis_frame_s(beats: Sequence, frame_s: float) -> float:
+    """Frame length for a recording: ``frame_s``, shortened at fast rates so that
+    the median systolic window holds at least three frames (never below 12 ms)."""
+    sys = [b.s2_onset_s - b.s1_offset_s for b in beats]
+    if not sys:
+        return frame_s
+    return float(np.clip(np.median(sys) / 3.0, 0.012, frame_s))
+
+
+def beat_profiles(spec: Spectrogram, beats: Sequence, config: FindingsConfig,
+                  *, min_window_s: float | None = None) -> Profiles:
     """Measure every beat that has both windows.
 
     Parameters
@@ -192,11 +207,11 @@ def beat_profiles(spec: Spectrogram, beats: Sequence, config: FindingsConfig) ->
     """
     n_bins = config.bins_per_window
     n_bands = spec.band_power.shape[0]
-    rows, wins, pw, s1p, s2p = [], [], [], [], []
+    rows, wins, guards, pw, s1p, s2p = [], [], [], [], [], []
     for bt in beats:
         if getattr(bt, "confidence", 1.0) < config.min_beat_confidence:
             continue
-        sys, dia = beat_windows(bt, config.guard_s)
+        sys, dia = beat_windows(bt, config.guard_s, min_window_s)
         if sys is None or dia is None:
             continue
         if dia[1] > spec.t[-1] or sys[0] < spec.t[0]:
@@ -207,15 +222,17 @@ def beat_profiles(spec: Spectrogram, beats: Sequence, config: FindingsConfig) ->
             p[w] = _binned(spec.band_power, idx)
         rows.append(int(bt.index))
         wins.append((sys, dia))
+        guards.append((sys[0] - bt.s1_offset_s, dia[0] - bt.s2_offset_s))
         pw.append(p)
         s1p.append(_mean_between(spec, bt.s1_onset_s, bt.s1_offset_s))
         s2p.append(_mean_between(spec, bt.s2_onset_s, bt.s2_offset_s))
     if not rows:
         empty = np.zeros((0, n_bands))
-        return Profiles(np.zeros(0, dtype=int), np.zeros((0, 2, 2)),
+        return Profiles(np.zeros(0, dtype=int), np.zeros((0, 2, 2)), np.zeros((0, 2)),
                         np.zeros((0, 2, n_bands, n_bins)), empty, empty, empty)
     power = np.maximum(np.array(pw), 1e-30)
     flat = power.transpose(0, 2, 1, 3).reshape(len(rows), n_bands, 2 * n_bins)
     ref = np.percentile(flat, config.reference_percentile, axis=2)
-    return Profiles(np.array(rows), np.array(wins, dtype=float), power,
+    return Profiles(np.array(rows), np.array(wins, dtype=float), np.array(guards, dtype=float),
+                    power,
                     np.maximum(ref, 1e-30), np.array(s1p), np.array(s2p))

@@ -40,6 +40,23 @@ from eddyphone.findings.records import GRADE_NOTE, Murmur
 
 PHASES = ("systolic", "diastolic")
 
+SHAPE_OVER_WINDOW = True
+
+#: Fraction trimmed from each end when averaging over beats: the interquartile mean,
+#: which ignores friction bursts, crackles and other sounds not locked to the cycle
+#: unless they hit the same place in most beats.
+TRIM = 0.25
+
+#: Lowest per-beat threshold (dB) however quiet the null windows are.
+NULL_FLOOR_DB = 1.5
+
+#: Beats per group when a faint murmur is judged on groups of beats.
+BLOCK_BEATS = 4
+
+#: A murmur's extent for the timing word: where its power is within this many dB
+#: of its peak (the same -20 dB edge the simulator's truth uses; our own choice).
+EXTENT_DB = 20.0
+
 #: Lowest dominant frequency (Hz) at which a murmur can be called musical: the
 #: 32-ms analysis frames resolve about 31 Hz, so a tone is only distinguishable from
 #: a noise band when its peak is several bins wide apart (our own limit).
@@ -170,6 +187,46 @@ def _trimmed_mean(values: np.ndarray, cut: float) -> np.ndarray:
     return s[k: n - k].mean(axis=0) if n - 2 * k > 0 else s.mean(axis=0)
 
 
+def _extent(profile: np.ndarray, k0: int, k1: int, extent_db: float) -> tuple[float, float]:
+    """Onset and end (fractions of the window) of the murmur in ``profile[k0:k1]``:
+    where it crosses ``extent_db`` below its peak, interpolated between bin centres
+    (in dB; past the active run the profile is the noise-subtracted excess)."""
+    n = len(profile)
+    p_db = 10.0 * np.log10(np.maximum(profile / max(profile[k0:k1].max(), 1e-30), 1e-6))
+    thr = -float(extent_db)
+    inside = [k for k in range(k0, k1) if p_db[k] >= thr]
+    a, b = inside[0], inside[-1]
+
+    def cross(k_in: int, k_out: int) -> float:
+        if not 0 <= k_out < n:
+            return k_in + (0.5 if k_out > k_in else -0.5)  # window edge
+        drop = p_db[k_in] - p_db[k_out]
+        frac = (p_db[k_in] - thr) / drop if drop > 0 else 0.5
+        return k_in + float(np.clip(frac, 0.0, 1.0)) * (k_out - k_in)
+
+    onset = (cross(a, a - 1) + 0.5) / n
+    end = (cross(b, b + 1) + 0.5) / n
+    return float(np.clip(onset, 0.0, 1.0)), float(np.clip(end, 0.0, 1.0))
+
+
+def _standard_error_db(R: np.ndarray, cut: float) -> np.ndarray:
+    """Standard error (dB) of the trimmed mean across beats, per window, band and bin."""
+    n = R.shape[0]
+    k = int(np.floor(cut * n))
+    d = np.sort(10.0 * np.log10(np.maximum(R, 1e-30)), axis=0)[k: n - k]
+    if d.shape[0] < 2:
+        return np.full(R.shape[1:], np.inf)
+    return d.std(axis=0, ddof=1) / np.sqrt(d.shape[0])
+
+
+def _block_means(v: np.ndarray, size: int) -> np.ndarray:
+    """Means of consecutive groups of ``size`` values (a short last group included
+    when it has at least half the size)."""
+    out = [v[i:i + size].mean() for i in range(0, len(v), size)
+           if len(v[i:i + size]) >= max(1, size // 2)]
+    return np.array(out) if out else np.array([v.mean()])
+
+
 def _fill_gaps(mask: np.ndarray, gap: int = 1) -> np.ndarray:
     m = mask.copy()
     idx = np.flatnonzero(m)
@@ -193,13 +250,13 @@ class _Candidate:
     peak_db: float
 
 
-def _candidates(M: np.ndarray, X: np.ndarray, dur_s: np.ndarray, cfg: FindingsConfig,
-                rejected: list[str]) -> list[_Candidate]:
+def _candidates(M: np.ndarray, active: np.ndarray, X: np.ndarray, dur_s: np.ndarray,
+                cfg: FindingsConfig, rejected: list[str]) -> list[_Candidate]:
     n_bins = M.shape[2]
     n_min = 2
     out = []
     for w in (SYS, DIA):
-        act = M[w] >= cfg.excess_db
+        act = active[w]
         bands = []
         for b in range(M.shape[1]):
             runs = _runs(_fill_gaps(act[b]))
@@ -326,8 +383,9 @@ def find_murmurs(spec: Spectrogram, prof: Profiles, config: FindingsConfig) -> M
     if n_beats == 0:
         return empty
     fs = 2.0 * float(spec.f[-1])
+    frame_s = 2.0 * (len(spec.f) - 1) / fs
     R = prof.ratio
-    A = _trimmed_mean(R, 0.15)
+    A = _trimmed_mean(R, TRIM)
     ref_rec = np.percentile(A.transpose(1, 0, 2).reshape(n_bands, -1), 30.0, axis=1)
     ref_rec = np.maximum(ref_rec, 1e-30)
     M = 10.0 * np.log10(np.maximum(A / ref_rec[None, :, None], 1e-12))
@@ -335,8 +393,15 @@ def find_murmurs(spec: Spectrogram, prof: Profiles, config: FindingsConfig) -> M
     X = np.sum(noise_abs[None, :, None] * np.clip(A / ref_rec[None, :, None] - 1.0, 0, None),
                axis=1)  # (2, bins) excess power profile, all bands
     dur_s = np.median(prof.windows_s[:, :, 1] - prof.windows_s[:, :, 0], axis=0)
+    # a bin is active when its excess reaches excess_db, or (many beats) when it
+    # reaches min_excess_db and stands z_active standard errors clear of zero
+    se = _standard_error_db(R, TRIM)
+    strong = np.greater_equal(M, cfg.excess_db)
+    faint = np.greater_equal(M, cfg.min_excess_db) & np.greater_equal(
+        M / np.maximum(se, 1e-9), cfg.z_active)
+    active = strong | faint
     rejected: list[str] = []
-    cands = _candidates(M, X, dur_s, cfg, rejected)
+    cands = _candidates(M, active, X, dur_s, cfg, rejected)
 
     quiet = np.ones((2, n_bins), dtype=bool)
     for c in cands:
@@ -367,17 +432,40 @@ def find_murmurs(spec: Spectrogram, prof: Profiles, config: FindingsConfig) -> M
                            axis=2)
         qref = q.mean(axis=(1, 2)) if q.shape[2] else np.ones(n_beats)
         bdb = 10.0 * np.log10(np.maximum(act / np.maximum(qref, 1e-30), 1e-12))
-        # null: the same statistic over the same bins of the other window, where this
-        # murmur is not; a beat shows the murmur when it beats 90 % of that null
+        # null: the same statistic over runs of the same length in the other window's
+        # quiet bins (where no murmur is); a beat shows the murmur when it beats 90 %
+        # of that null
         other = DIA if c.window == SYS else SYS
-        if not any(o.window == other for o in cands):
-            null_act = R[:, other][:, bands][:, :, c.k0:c.k1].mean(axis=(1, 2))
-            null = 10.0 * np.log10(np.maximum(null_act / np.maximum(qref, 1e-30), 1e-12))
-            thr = max(cfg.beat_excess_db, float(np.percentile(null, 90)))
+        width = c.k1 - c.k0
+        ok = M[other][bands].max(axis=0) < cfg.excess_db / 2.0
+        starts = [k for k in range(n_bins - width + 1) if ok[k:k + width].all()]
+        if starts:
+            null = np.concatenate([
+                10.0 * np.log10(np.maximum(
+                    R[:, other][:, bands][:, :, k:k + width].mean(axis=(1, 2))
+                    / np.maximum(qref, 1e-30), 1e-12)) for k in starts])
+            thr = max(NULL_FLOOR_DB, float(np.percentile(null, 90)))
         else:
             thr = cfg.beat_excess_db
         shows = bdb >= thr
         consistency = float(np.mean(shows))
+        if consistency < cfg.present_consistency and starts and n_beats >= 2 * BLOCK_BEATS:
+            # weak murmur: judge it on groups of BLOCK_BEATS consecutive beats (their
+            # mean against the same null built from groups), so that a faint but
+            # steady murmur is not called inconsistent because single beats are noisy
+            blocks = _block_means(bdb, BLOCK_BEATS)
+            null_blocks = np.concatenate([
+                _block_means(10.0 * np.log10(np.maximum(
+                    R[:, other][:, bands][:, :, k:k + width].mean(axis=(1, 2))
+                    / np.maximum(qref, 1e-30), 1e-12)), BLOCK_BEATS) for k in starts])
+            bthr = max(NULL_FLOOR_DB / 2.0, float(np.percentile(null_blocks, 90)))
+            block_ok = blocks >= bthr
+            if np.mean(block_ok) > consistency:
+                consistency = float(np.mean(block_ok))
+                shows = np.repeat(block_ok, BLOCK_BEATS)[:n_beats]
+                if len(shows) < n_beats:
+                    shows = np.concatenate([shows, np.full(n_beats - len(shows),
+                                                           bool(block_ok[-1]))])
         name = PHASES[c.window]
         flags[name] = shows
         beat_db[name] = bdb
@@ -390,13 +478,31 @@ def find_murmurs(spec: Spectrogram, prof: Profiles, config: FindingsConfig) -> M
         full = prof_w / max(prof_w.max(), 1e-30)
         seg = full[c.k0:c.k1]
         seg_db = 10.0 * np.log10(np.maximum(seg / max(seg.max(), 1e-30), 1e-6))
-        onset = c.k0 / n_bins
-        end = c.k1 / n_bins
+        # extent: the active run, limited to where the murmur is within
+        # EXTENT_DB of its peak (a loud murmur's faint edges do not make it longer)
+        onset, end = _extent(full, c.k0, c.k1, EXTENT_DB)
+        # back to fractions of the whole window (S1 end to S2 start, S2 end to next
+        # S1), undoing the guard trimmed at each end
+        # and take off half a frame at each edge (each frame smears a sound over its
+        # length, so measured edges sit that much outside the true ones)
+        g = float(np.median(prof.guard_s[:, c.window]))
+        length = float(dur_s[c.window])
+        if length > 0:
+            whole = length + 2.0 * g
+            half = 0.5 * frame_s
+            t_on = g + onset * length + (half if onset > 0 else 0.0)
+            t_end = g + end * length - (half if end < 1 else 0.0)
+            if t_end <= t_on:
+                t_on = t_end = 0.5 * (g + onset * length + g + end * length)
+            onset, end = t_on / whole, t_end / whole
         timing = timing_word(onset, end)
         t_conf = float(np.clip(1.0 - 4.0 * min(abs(onset - 0.15), abs(end - 0.85),
                                                abs(onset - 0.5), abs(end - 2 / 3)), 0.4, 1.0))
-        shape, s_conf = shape_word(seg_db)
+        full_db = 10.0 * np.log10(np.maximum(full, 1e-6))
+        shape, s_conf = shape_word(full_db if SHAPE_OVER_WINDOW else seg_db)
         peak_frac = float((c.k0 + int(np.argmax(seg)) + 0.5) / n_bins)
+        if length > 0:
+            peak_frac = (g + peak_frac * length) / (length + 2.0 * g)
         # level: peak excess power per beat (all bands) re the mean S1/S2 power
         peak_pow = excess_beats[use][:, c.window, c.k0:c.k1].max(axis=1)
         level = 10.0 * np.log10(max(float(np.median(peak_pow)), 1e-30)
@@ -438,7 +544,8 @@ def find_murmurs(spec: Spectrogram, prof: Profiles, config: FindingsConfig) -> M
             grade_note=GRADE_NOTE, level_db_re_heart_sounds=level, peak_fraction=peak_frac,
             beats_with_murmur=int(shows.sum()), beats_used=n_beats,
             profile=tuple(float(v) for v in full), spectrum=band_e,
-            tonality=sp["tonality"], snr_db=snr, level_db_re_s1=level_s1))
+            tonality=sp["tonality"], snr_db=snr, level_db_re_s1=level_s1,
+            onset_fraction=onset, end_fraction=end))
     if continuous and len(murmurs) == 2 and all(m.presence == "present" for m in murmurs):
         murmurs = [_merge_continuous(murmurs[0], murmurs[1])]
     murmurs.sort(key=lambda m: (m.presence != "present", -m.level_db_re_heart_sounds))

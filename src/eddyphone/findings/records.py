@@ -74,6 +74,8 @@ class Murmur:
         Peak excess over the quiet parts of the cycle (beat-averaged), dB.
     level_db_re_s1 : float
         Murmur peak level relative to S1 alone (used to compare sites).
+    onset_fraction, end_fraction : float
+        Start and end of the murmur within its window (0-1), as used for timing.
     """
 
     id: str
@@ -100,6 +102,8 @@ class Murmur:
     tonality: float = 0.0
     snr_db: float = 0.0
     level_db_re_s1: float = float("nan")
+    onset_fraction: float = float("nan")
+    end_fraction: float = float("nan")
 
     @property
     def grade_text(self) -> str:
@@ -146,6 +150,8 @@ class Murmur:
             "level_db_re_s1": _r(self.level_db_re_s1, 1),
             "tonality": _r(self.tonality),
             "peak_fraction": _r(self.peak_fraction),
+            "onset_fraction": _r(self.onset_fraction),
+            "end_fraction": _r(self.end_fraction),
             "beats_with_murmur": int(self.beats_with_murmur),
             "beats_used": int(self.beats_used),
             "profile": [_r(v) for v in self.profile],
