@@ -416,7 +416,8 @@ def ensemble_figure(analysis: Any):
                 Line2D([], [], ls="none", marker="|", ms=7, mew=1.8,
                        color=palette.STATE_COLOURS["S2"], label="S2 onset")]
         keys += _murmur_marks(ax, prof, analysis, beats)
-        fig.legend(handles=keys, loc="outside lower center", ncol=len(keys),
+        fig.legend(handles=keys, loc="outside lower center",
+                   ncol=len(keys) if len(keys) <= 6 else int(np.ceil(len(keys) / 2)),
                    handletextpad=0.3, columnspacing=1.0)
         prof.grid(axis="y")
     return fig
@@ -443,6 +444,7 @@ def _murmur_marks(ax, prof, analysis: Any, beats: Sequence) -> list:
     the beats in which the findings stage heard it."""
     bounds = {k: (a, b) for k, a, b in _median_bounds(beats)}
     murmurs = _murmurs(analysis)
+    handles: list = []
     for k, m in enumerate(murmurs):
         if m.phase == "systolic":
             a, b = bounds["S1"][1], bounds["S2"][0]
@@ -453,14 +455,13 @@ def _murmur_marks(ax, prof, analysis: Any, beats: Sequence) -> list:
         else:
             continue
         y = -ENERGY_RANGE_DB - 2 - 3 * k
-        prof.plot([1000 * a, 1000 * b], [y, y], color=palette.ACCENT, lw=3.0,
-                  solid_capstyle="butt")
-        prof.text(500 * (a + b), y + 1.2, f"{m.id} window", color=palette.ACCENT, fontsize=7,
-                  ha="center", va="bottom")
+        (bar,) = prof.plot([1000 * a, 1000 * b], [y, y], color=palette.ACCENT, lw=3.0,
+                           solid_capstyle="butt", label=f"{m.id} window")
+        handles.append(bar)
     measures = {bm.beat: bm for bm in getattr(analysis.findings, "beat_measures", ())} \
         if analysis.findings is not None else {}
     if not measures:
-        return []
+        return handles
     ms = float(np.clip(90.0 / max(1, len(beats)), 1.5, 3.8))
     side = ax.inset_axes([1.006, 0.0, 0.022, 1.0])
     side.set_xlim(0, 1)
@@ -483,8 +484,8 @@ def _murmur_marks(ax, prof, analysis: Any, beats: Sequence) -> list:
               color=palette.ACCENT, transform=side.transData)
     from matplotlib.lines import Line2D
 
-    return [Line2D([], [], ls="none", marker="s", ms=4.5, color=palette.ACCENT,
-                   label="murmur heard in the beat"),
+    return handles + [Line2D([], [], ls="none", marker="s", ms=4.5, color=palette.ACCENT,
+                             label="murmur heard"),
             Line2D([], [], ls="none", marker="s", ms=4.5, color=palette.ACCENT,
                    mfc=palette.PAPER, label="not heard"),
             Line2D([], [], ls="none", marker="x", ms=4.5, color=palette.MUTED,
