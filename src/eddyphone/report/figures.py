@@ -533,6 +533,27 @@ def window_spectrum(x: np.ndarray, fs: float, windows: Sequence[tuple[float, flo
     return f, acc / weight
 
 
+def _guard_s(analysis: Any) -> float:
+    findings_cfg = getattr(analysis.config, "findings", None)
+    return float(getattr(findings_cfg, "guard_s", 0.0) or 0.0)
+
+
+def profile_positions(n_bins: int, phase: str, window_ms: float | None,
+                      guard_s: float = 0.0) -> np.ndarray:
+    """Position (% of the full window) of each profile bin's centre.
+
+    The findings stage measures the profile over the window less a guard of
+    ``guard_s`` at each end and states ``peak_fraction`` on the full window; the
+    bins are placed the same way so the peak marker falls on the profile's peak.
+    """
+    centres = (np.arange(n_bins) + 0.5) / n_bins
+    if phase == "continuous" or not window_ms or guard_s <= 0:
+        return 100 * centres
+    w = window_ms / 1000.0
+    inner = max(w - 2 * guard_s, 1e-6)
+    return 100 * (guard_s + centres * inner) / w
+
+
 def murmur_figure(analysis: Any, murmur: Any):
     """Time profile (across its window) and spectrum of one murmur."""
     x, fs = analysis.conditioned.x, analysis.conditioned.fs
@@ -543,7 +564,8 @@ def murmur_figure(analysis: Any, murmur: Any):
         windows = murmur_windows(analysis, murmur.phase)
         mean_ms = 1000 * float(np.mean([b - a for a, b in windows])) if windows else None
         if profile.size:
-            pos = np.linspace(0, 100, profile.size)
+            pos = profile_positions(profile.size, murmur.phase, mean_ms,
+                                    _guard_s(analysis))
             top = float(profile.max()) or 1.0
             ax.fill_between(pos, 0, profile / top, color=palette.ACCENT, alpha=0.25, lw=0)
             ax.plot(pos, profile / top, color=palette.ACCENT, lw=1.6)
@@ -565,7 +587,7 @@ def murmur_figure(analysis: Any, murmur: Any):
         start, end = {"systolic": ("S1 end", "S2 start"), "diastolic": ("S2 end", "next S1"),
                       "continuous": ("S1", "next S1")}.get(murmur.phase, ("start", "end"))
         ax.set_xlabel(f"position in window, % ({start} → {end})")
-        ax.set_ylabel("envelope (1 = its peak)")
+        ax.set_ylabel("murmur profile (1 = its peak)")
         ax.set_title(f"{murmur.id}: {timing_phase(murmur)} {getattr(murmur, 'shape', '')}",
                      fontsize=9, pad=12)
         if mean_ms:
