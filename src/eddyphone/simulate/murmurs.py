@@ -288,7 +288,10 @@ def beat_velocity(plan: MurmurPlan, t: np.ndarray, beat: dict, *, sinus: bool
     if PHASE[cause] == "systolic" and cause != "systolic_leak":
         sel = (t >= ej) & (t < a2)
         tau = (t[sel] - ej) / (a2 - ej)
-        v[sel] = _beta_peak(tau, ejection_peak_fraction(cause, plan.peak_velocity_m_s))
+        # flow-state murmurs (no narrowing) are brief: flow falls off quickly after its
+        # early peak; a narrowed valve keeps the jet fast for longer
+        sharp = 6.0 if cause in ("high_flow", "low_viscosity") else 4.0
+        v[sel] = _beta_peak(tau, ejection_peak_fraction(cause, plan.peak_velocity_m_s), sharp)
     elif cause == "systolic_leak":
         end = a2 + 0.02
         sel = (t >= s1) & (t < end)
@@ -307,10 +310,9 @@ def beat_velocity(plan: MurmurPlan, t: np.ndarray, beat: dict, *, sinus: bool
         tt = t[sel] - mo
         area_cm2 = float(physics.area_m2(plan.diameter_m)) * 1e4
         pht = PRESSURE_HALF_TIME_CONSTANT_S_CM2 / area_cm2
-        # inflow accelerates over the first ~60 ms after opening (early filling
-        # acceleration time, common practice), then the gradient decays with the
-        # pressure half-time
-        dp = (1 - np.exp(-tt / 0.06)) * 2.0 ** (-tt / pht)
+        # inflow builds up within a few tens of ms of opening, then the gradient decays
+        # with the pressure half-time
+        dp = (1 - np.exp(-tt / 0.02)) * 2.0 ** (-tt / pht)
         if dp.size:
             dp = dp / max(dp.max(), 1e-9)
         if sinus:
