@@ -665,18 +665,19 @@ def mechanism_chart(explanation: Any, titles: dict[str, str] | None = None, *,
     titles = titles or {}
     with styled():
         rows = sum(len(m) for _, m in groups)
-        fig = _figure(0.75 + 0.32 * rows + 0.35 * len(groups))
+        fig = _figure(0.75 + 0.4 * rows + 0.35 * len(groups))
         axes = fig.subplots(len(groups), 1, squeeze=False,
                             height_ratios=[len(m) for _, m in groups])[:, 0]
         for ax, (fid, mechs) in zip(axes, groups):
             y = np.arange(len(mechs))[::-1]
             scores = [float(m.score) for m in mechs]
-            ax.barh(y, scores, height=0.62, color=[palette.mechanism_colour(m.name)
-                                                    for m in mechs])
+            ax.barh(y, scores, height=0.62 if len(mechs) > 1 else 0.3,
+                    color=[palette.mechanism_colour(m.name) for m in mechs])
             for yy, s in zip(y, scores):
                 ax.text(s + 0.01, yy, f"{s:.2f}", va="center", ha="left", fontsize=7.5)
-            ax.set_yticks(y, [_wrap(m.label, 34) for m in mechs])
+            ax.set_yticks(y, [_wrap(m.label, 42) for m in mechs])
             ax.set_xlim(0, 1.08)
+            ax.set_ylim(*((-0.6, len(mechs) - 0.4) if len(mechs) > 1 else (-0.8, 0.8)))
             ax.set_title(_wrap(titles.get(fid, fid), 90), fontsize=9)
             ax.grid(axis="x")
             ax.set_axisbelow(True)
