@@ -258,8 +258,12 @@ def _whole_strip(ax, analysis: Any, t0: float, t1: float) -> None:
 
 # --- spectrogram ----------------------------------------------------------------------
 
-def spectrogram_figure(analysis: Any, *, max_s: float = DETAIL_MAX_S):
-    """Short-time spectrum (dB) of the detail window with the states above it."""
+#: Stretch shown in the spectrogram, in seconds (a few beats, wide enough to read).
+SPECTROGRAM_MAX_S = 4.0
+
+
+def spectrogram_figure(analysis: Any, *, max_s: float = SPECTROGRAM_MAX_S):
+    """Short-time spectrum (dB) of the best ``max_s`` seconds with the states above it."""
     from scipy.signal import spectrogram
 
     x, fs = analysis.conditioned.x, analysis.conditioned.fs
@@ -282,14 +286,14 @@ def spectrogram_figure(analysis: Any, *, max_s: float = DETAIL_MAX_S):
         strip.text(1.0, 1.15, "dotted lines: S1 and S2 onsets", transform=strip.transAxes,
                    ha="right", va="bottom", fontsize=7, color=palette.MUTED)
         mesh = ax.pcolormesh(t0 + tt, f[keep], db, cmap=palette.energy_colormap(),
-                             vmin=top - ENERGY_RANGE_DB, vmax=top, shading="auto",
+                             vmin=top - ENERGY_RANGE_DB, vmax=top, shading="gouraud",
                              rasterized=True)
         for s in segments:
             if s.label in ("S1", "S2") and t0 <= s.start_s <= t1:
                 ax.axvline(s.start_s, color=palette.STATE_COLOURS[s.label], lw=0.6,
                            ls=(0, (1, 3)), alpha=0.8)
         ax.set_yscale("log")
-        ax.set_ylim(*SPECTRUM_RANGE_HZ)
+        ax.set_ylim(float(f[keep][0]), float(f[keep][-1]))
         ticks = [25, 50, 100, 200, 400, 800]
         ax.set_yticks(ticks, [str(v) for v in ticks])
         ax.minorticks_off()
