@@ -23,14 +23,20 @@ Targets (tracker issue 9): speed-up >= 1.8 with 2 workers; overhead < 10 %.
 
 from __future__ import annotations
 
-import argparse
-import json
 import os
-import shutil
-import tempfile
-import time
-from concurrent.futures import ProcessPoolExecutor
-from pathlib import Path
+
+# The single analyses run with one thread each, as the batch workers do (set before
+# numpy is imported), so that both sides of the overhead figure do the same work.
+for _name in ("OMP_NUM_THREADS", "OPENBLAS_NUM_THREADS", "MKL_NUM_THREADS"):
+    os.environ.setdefault(_name, "1")
+
+import argparse  # noqa: E402
+import json  # noqa: E402
+import shutil  # noqa: E402
+import tempfile  # noqa: E402
+import time  # noqa: E402
+from concurrent.futures import ProcessPoolExecutor  # noqa: E402
+from pathlib import Path  # noqa: E402
 
 
 def _write_case(args: tuple) -> str:
@@ -123,9 +129,18 @@ def main() -> None:
                   f"(main + workers), {counts['succeeded']} rows, {counts['failed']} failed, "
                   f"{len(files) / wall:.2f} recordings/s")
     print(f"load average after timing: {_load()}")
+    if failed_single or any(t.attrs["counts"]["failed"] for _, t in runs.values()):
+        print("WARNING: some analyses failed; the timings below do not describe full "
+              "analyses")
 
     out1, table1 = runs[1]
     in_worker = sum(r.get("elapsed_s", 0.0) for r in _records(out1))
+    for workers, (out, _) in sorted(runs.items()):
+        task_cpu = sum(r.get("cpu_s", 0.0) for r in _records(out))
+        machinery = cpus[workers] - task_cpu
+        print(f"batch machinery CPU with {workers} worker(s) (all but the analyses "
+              f"themselves): {machinery:.2f} s = {100 * machinery / task_cpu:.1f} % of the "
+              f"{task_cpu:.1f} s CPU the analyses took inside the workers")
     overhead = (walls[1] - sum_single) / sum_single
     overhead_cpu = (cpus[1] - sum_single_cpu) / sum_single_cpu
     print(f"throughput: {len(files) / walls[args.workers]:.2f} recordings/s with "

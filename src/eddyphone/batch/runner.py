@@ -123,6 +123,36 @@ def _peak_rss_mb() -> float | None:
 def _init_worker() -> None:
     for name in _THREAD_VARIABLES:
         os.environ[name] = "1"
+    try:  # libraries already loaded (fork) take the limit only through their own calls
+        from threadpoolctl import threadpool_limits
+    except ImportError:
+        return
+    threadpool_limits(1)
+
+
+#: Modules imported before forking, so that every worker starts with them loaded.
+_PRELOAD = ("eddyphone.io", "eddyphone.pipeline", "eddyphone.segment", "eddyphone.findings",
+            "eddyphone.explain")
+
+
+def _start_method():
+    """``fork`` from a single-threaded process with the stages preloaded, else ``spawn``.
+
+    Forking is only safe while no other thread runs (a lock held by another thread
+    would stay locked in the child); a notebook kernel or a process hosting a Dask
+    client has such threads, and gets fresh interpreters instead.
+    """
+    import contextlib
+    import importlib
+    import multiprocessing
+    import threading
+
+    if "fork" not in multiprocessing.get_all_start_methods() or threading.active_count() > 1:
+        return multiprocessing.get_context("spawn")
+    for name in _PRELOAD:
+        with contextlib.suppress(ImportError):  # a stage not built: the pipeline copes
+            importlib.import_module(name)
+    return multiprocessing.get_context("fork")
 
 
 OnResult = Callable[[dict[str, Any]], None]
@@ -152,11 +182,10 @@ def run_local(tasks: Sequence[Mapping[str, Any]], workers: int, on_result: OnRes
 def _pool_pass(tasks: Sequence[Mapping[str, Any]], workers: int,
                on_result: OnResult) -> list[Mapping[str, Any]]:
     """Run tasks on one pool; return those left unfinished because the pool broke."""
-    import multiprocessing
     from concurrent.futures import ProcessPoolExecutor, as_completed
     from concurrent.futures.process import BrokenProcessPool
 
-    context = multiprocessing.get_context("spawn")
+    context = _start_method()
     unfinished: list[Mapping[str, Any]] = []
     pool = ProcessPoolExecutor(max_workers=max(1, min(workers, len(tasks))),
                                mp_context=context, initializer=_init_worker)
