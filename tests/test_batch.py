@@ -267,13 +267,24 @@ def test_damaged_record_and_leftover_temporary_are_handled(study, tmp_path):
 
 
 def test_second_batch_into_the_same_folder_is_refused(study, tmp_path):
-    fcntl = pytest.importorskip("fcntl")
+    pytest.importorskip("fcntl")
     out = tmp_path / "out"
     out.mkdir()
-    with (out / ".lock").open("a+") as fh:
-        fcntl.flock(fh, fcntl.LOCK_EX)
+    holder = subprocess.Popen([sys.executable, "-c", (  # another process holds the lock
+        "import fcntl, time\n"
+        f"fh = open({str(out / '.lock')!r}, 'a+')\n"
+        "fcntl.lockf(fh, fcntl.LOCK_EX)\n"
+        "print('locked', flush=True)\n"
+        "time.sleep(60)\n")], stdout=subprocess.PIPE, text=True)
+    try:
+        assert holder.stdout.readline().strip() == "locked"
         with pytest.raises(InputError, match="another batch"):
             run_batch([study / "ward_a"], out, workers=1, progress=False)
+    finally:
+        holder.kill()
+        holder.wait()
+    assert run_batch([study / "ward_a"], out, workers=1, progress=False).attrs["counts"][
+        "failed"] == 0  # released when its holder died
 
 
 def test_bad_arguments():
@@ -344,6 +355,27 @@ def test_killed_run_resumes_without_recomputing(tmp_path):
     pd.testing.assert_frame_equal(resumed, reference)
     pd.testing.assert_frame_equal(pd.read_parquet(out / "beats.parquet"),
                                   pd.read_parquet(tmp_path / "ref" / "beats.parquet"))
+
+
+def test_workers_exit_when_the_batch_process_is_killed(study, tmp_path):
+    psutil = pytest.importorskip("psutil")  # general-purpose process library (reference)
+    out = tmp_path / "out"
+    proc = subprocess.Popen([sys.executable, "-m", "eddyphone.cli", "batch", str(study),
+                             "--out", str(out), "--workers", "2", "--quiet"],
+                            stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
+    deadline = time.monotonic() + 120
+    workers = []
+    while not workers:
+        assert proc.poll() is None and time.monotonic() < deadline
+        workers = [c for c in psutil.Process(proc.pid).children()
+                   if "resource_tracker" not in " ".join(c.cmdline())]
+        time.sleep(0.01)
+    proc.send_signal(signal.SIGKILL)  # the batch process only, not its workers
+    proc.wait(timeout=30)
+    gone, alive = psutil.wait_procs(workers, timeout=15)
+    for p in alive:  # clean up before failing
+        p.kill()
+    assert not alive, "orphaned workers kept running after the batch was killed"
 
 
 def test_local_cluster_equals_local_run(study, reference, tmp_path):

@@ -214,7 +214,11 @@ def _json_names(items: Sequence[BatchItem], keys: Sequence[str | None]) -> dict[
 
 @contextmanager
 def _lock(out_dir: Path):
-    """Hold ``out_dir/.lock`` so two batches never write the same folder at once."""
+    """Hold ``out_dir/.lock`` so two batches never write the same folder at once.
+
+    A POSIX record lock: owned by this process alone (worker processes forked
+    from it do not inherit it) and released by the system when it dies.
+    """
     try:
         import fcntl
     except ImportError:  # not POSIX: no lock
@@ -223,7 +227,7 @@ def _lock(out_dir: Path):
     fh = (out_dir / ".lock").open("a+")
     try:
         try:
-            fcntl.flock(fh, fcntl.LOCK_EX | fcntl.LOCK_NB)
+            fcntl.lockf(fh, fcntl.LOCK_EX | fcntl.LOCK_NB)
         except OSError:
             raise InputError(str(out_dir), "another batch is writing to this folder",
                              "wait for it to finish, or choose another --out folder") from None

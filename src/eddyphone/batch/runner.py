@@ -123,11 +123,28 @@ def _peak_rss_mb() -> float | None:
 def _init_worker() -> None:
     for name in _THREAD_VARIABLES:
         os.environ[name] = "1"
+    _exit_with_parent()
     try:  # libraries already loaded (fork) take the limit only through their own calls
         from threadpoolctl import threadpool_limits
     except ImportError:
         return
     threadpool_limits(1)
+
+
+def _exit_with_parent(poll_s: float = 0.5) -> None:
+    """End this worker soon after the batch process dies (``kill -9`` leaves it orphaned,
+    waiting for work that will never come)."""
+    import threading
+
+    parent = os.getppid()
+
+    def watch() -> None:
+        while True:
+            time.sleep(poll_s)
+            if os.getppid() != parent:
+                os._exit(1)
+
+    threading.Thread(target=watch, name="eddyphone-parent-watch", daemon=True).start()
 
 
 #: Modules imported before forking, so that every worker starts with them loaded.
