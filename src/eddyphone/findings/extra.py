@@ -267,8 +267,11 @@ def find_extra_sounds(x: np.ndarray, fs: float, beats: Sequence,
         if iqr > MAX_TIMING_IQR_MS:
             continue  # not time-locked to the cycle: noise peaks, not a heart sound
         (lo, hi), ref, src = windows[kind]
+        t_med = float(np.median(times))
+        if not 1000 * (lo - tol) <= t_med <= 1000 * (hi + tol):
+            continue  # outside the published window (plus tolerance): something else
         out.append(ExtraSound(
-            id="", kind=kind, confidence=_conf(frac, n), timing_ms=float(np.median(times)),
+            id="", kind=kind, confidence=_conf(frac, n), timing_ms=t_med,
             reference=ref,
             details={"window_ms": [round(1000 * lo), round(1000 * hi)],
                      "window_source": src, "tolerance_ms": round(1000 * tol),

@@ -53,6 +53,10 @@ NULL_FLOOR_DB = 1.5
 #: Beats per group when a faint murmur is judged on groups of beats.
 BLOCK_BEATS = 4
 
+#: A murmur is "steady" when the interquartile range of its per-beat excess is at
+#: most this multiple of the null's (murmur-free windows of the same recording).
+STEADY_SPREAD = 1.5
+
 #: A murmur's extent for the timing word: where its power is within this many dB
 #: of its peak (the same -20 dB edge the simulator's truth uses; our own choice).
 EXTENT_DB = 20.0
@@ -217,6 +221,10 @@ def _standard_error_db(R: np.ndarray, cut: float) -> np.ndarray:
     if d.shape[0] < 2:
         return np.full(R.shape[1:], np.inf)
     return d.std(axis=0, ddof=1) / np.sqrt(d.shape[0])
+
+
+def _iqr(v: np.ndarray) -> float:
+    return float(np.subtract(*np.percentile(v, [75, 25]))) if len(v) else 0.0
 
 
 def _block_means(v: np.ndarray, size: int) -> np.ndarray:
@@ -449,10 +457,14 @@ def find_murmurs(spec: Spectrogram, prof: Profiles, config: FindingsConfig) -> M
             thr = cfg.beat_excess_db
         shows = bdb >= thr
         consistency = float(np.mean(shows))
-        if consistency < cfg.present_consistency and starts and n_beats >= 2 * BLOCK_BEATS:
-            # weak murmur: judge it on groups of BLOCK_BEATS consecutive beats (their
-            # mean against the same null built from groups), so that a faint but
-            # steady murmur is not called inconsistent because single beats are noisy
+        steady = bool(starts) and (_iqr(bdb) <= STEADY_SPREAD * max(_iqr(null), 1.0))
+        if (consistency < cfg.present_consistency and steady
+                and n_beats >= 2 * BLOCK_BEATS):
+            # weak but steady murmur (its beat-to-beat spread no wider than the
+            # null's): judge it on groups of BLOCK_BEATS consecutive beats (their mean
+            # against the same null built from groups), so that a faint murmur is not
+            # called inconsistent because single beats are noisy. Irregular sounds
+            # (speech, friction) widen the spread and get no such help.
             blocks = _block_means(bdb, BLOCK_BEATS)
             null_blocks = np.concatenate([
                 _block_means(10.0 * np.log10(np.maximum(
