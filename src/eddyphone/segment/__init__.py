@@ -212,11 +212,12 @@ def _swap_evidence(starts: np.ndarray, ends: np.ndarray, states: np.ndarray,
                    tilt: np.ndarray, ffs: float, loglik: np.ndarray | None = None) -> float:
     """Evidence (> 0) that the decoded S1/S2 labels are the right way round.
 
-    Four cues, each clipped to +/-3: timing (systole shorter than diastole by the
-    margin the Weissler regression expects at this rate), stability (the systolic
-    interval varies less than the diastolic one when the rhythm varies), pitch
-    (S2 is higher-pitched than S1, common practice) and the emission model (log
-    likelihood of the labels against the mirrored labels, per beat).
+    Five cues, each clipped to +/-3 (duration +/-2): timing (systole shorter than
+    diastole by the margin the Weissler regression expects at this rate), stability
+    (the systolic interval varies less than the diastolic one when the rhythm
+    varies), pitch (S2 is higher-pitched than S1, common practice), duration (S1
+    lasts longer than S2: 122 vs 92 ms in Schmidt et al. 2010) and the emission
+    model (log likelihood of the labels against the mirrored labels, per beat).
     """
     sys, dia = _intervals(starts, states, ffs)
     if len(sys) < 2 or len(dia) < 2:
@@ -247,7 +248,12 @@ def _swap_evidence(starts: np.ndarray, ends: np.ndarray, states: np.ndarray,
     pitch = 0.0
     if len(m1) and len(m2):
         pitch = float(np.clip((np.mean(m2) - np.mean(m1)) / 0.3, -3, 3))
-    return timing + stability + pitch + emission
+    d1 = [e - s for s, e, k in zip(starts, ends, states, strict=True) if k == 0]
+    d2 = [e - s for s, e, k in zip(starts, ends, states, strict=True) if k == 2]
+    duration = 0.0
+    if len(d1) >= 2 and len(d2) >= 2:
+        duration = float(np.clip((np.median(d1) - np.median(d2)) / ffs / 0.015, -2, 2))
+    return timing + stability + pitch + emission + duration
 
 
 def _refine(loglik, starts, states, est: HeartRateEstimate, ffs: float, cfg: SegmentConfig):

@@ -68,7 +68,7 @@ def state_durations(heart_rate_bpm: float, systolic_interval_s: float, *,
                        s2_s[0] + 3.5 * s2_s[1])
     sys_mean = max(systolic_interval_s - s1_s[0], 0.02)
     sys_sd = systole_sd_s + 0.05 * sys_mean
-    systole = StateDuration(sys_mean, sys_sd, max(0.02, sys_mean - 3.5 * sys_sd),
+    systole = StateDuration(sys_mean, sys_sd, max(0.02, sys_mean - 2.5 * sys_sd),
                             sys_mean + 4.0 * sys_sd)
     dia_mean = max(period - systolic_interval_s - s2_s[0], 0.04)
     dia_sd = float(np.hypot(diastole_sd_fraction * dia_mean + diastole_sd_floor_s,

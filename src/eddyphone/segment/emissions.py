@@ -1,10 +1,11 @@
 """Frame features and the emission model of the segmenter.
 
 Features are relative, so that a device's gain and response and the noise floor
-of one recording largely cancel: the log of each envelope is centred on its
-median and scaled by its spread above the median (97th percentile minus median),
-per recording. The emission model is a multinomial logistic regression on those
-features and their squares (a discriminative emission in the manner of Springer
+of one recording largely cancel: the log of each envelope is centred on its 20th
+percentile (a frame between sounds even at 200 bpm, when sounds fill half the
+cycle) and scaled by the spread up to its 97th percentile, per recording. The
+emission model is a multinomial logistic regression on those features and their
+squares (a discriminative emission in the manner of Springer
 et al. 2016); its class posterior divided by the class prior gives the scaled
 likelihood the hidden semi-Markov model needs.
 
@@ -59,9 +60,9 @@ def frame_features(env: Envelopes) -> np.ndarray:
         np.log(env.low_band + _TINY),
         np.log(env.mid_band + _TINY),
     ], axis=1)
-    med, p97 = np.percentile(raw, [50.0, 97.0], axis=0)
-    spread = p97 - med
-    rel = (raw - med) / np.where(spread > 1e-9, spread, 1.0)
+    floor, p97 = np.percentile(raw, [20.0, 97.0], axis=0)
+    spread = p97 - floor
+    rel = (raw - floor) / np.where(spread > 1e-9, spread, 1.0)
     homo = rel[:, 0]
     slope = np.gradient(homo) if len(homo) > 1 else np.zeros_like(homo)
     # Mid- over low-band level, relative to its median over the loud frames: the
