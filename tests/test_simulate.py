@@ -529,3 +529,14 @@ def test_noise_level_wanders_but_mean_snr_holds():
     assert np.ptp(win) > 3.0
     assert generate(spec.with_(noise_wander_db=0.0)).truth["noise"]["snr_db"] == pytest.approx(
         12.0, abs=0.2)
+
+
+def test_parts_add_up_and_recording_view():
+    sim = generate(CaseSpec(murmur=MurmurSpec("systolic_leak", diameter_m=0.005,
+                                              velocity_m_s=5.0), seed=50, **QUIET))
+    p = sim.parts
+    assert np.allclose(p["sounds"] + p["murmur"], p["cardiac"])
+    # the file is the parts plus quantisation (half a 16-bit step at most)
+    assert np.abs(sim.x - (p["cardiac"] + p["noise"])).max() <= 0.5 / 32768 + 1e-12
+    rec = sim.recording()
+    assert rec.fs == sim.fs and rec.site == "mitral" and rec.x is sim.x

@@ -79,7 +79,8 @@ class Simulated:
         Everything written to ``truth.json``.
     parts : dict of ndarray
         The scaled parts before quantisation: ``cardiac`` (sounds + murmur after
-        chest wall and device), ``murmur``, ``noise`` (everything else).
+        chest wall and device), ``sounds`` (heart sounds alone), ``murmur``, ``noise``
+        (everything else).
     """
 
     x: np.ndarray
@@ -89,6 +90,16 @@ class Simulated:
     murmur_spans: tuple
     truth: dict
     parts: dict = field(default_factory=dict, repr=False)
+
+    def recording(self, source: str | None = None):
+        """The samples as an :class:`eddyphone.recording.Recording` (site from the spec)."""
+        from eddyphone.recording import Recording
+
+        spec = self.truth["spec"]
+        return Recording(x=self.x, fs=self.fs, source=source or f"<simulated seed {spec['seed']}>",
+                         original_fs=self.fs, format="simulated",
+                         subtype=f"PCM_{spec['bit_depth']}", site=spec["site"],
+                         metadata={"synthetic": True})
 
 
 def _streams(seed: int, k: int) -> list[np.random.Generator]:
@@ -457,7 +468,9 @@ def generate(spec: CaseSpec, *, seed: int | None = None) -> Simulated:
                                                           ripple=ripple),
                    "chest_wall_cutoff_hz": spec.chest_wall_cutoff_hz},
     }
-    parts = {"cardiac": cardiac * gain, "murmur": murmur_dev * gain, "noise": noise * gain}
+    sounds_dev = cardiac - murmur_dev if plan is not None else cardiac
+    parts = {"cardiac": cardiac * gain, "sounds": sounds_dev * gain, "murmur": murmur_dev * gain,
+             "noise": noise * gain}
     return Simulated(x=x, fs=fs, segments=tuple(segments), events=ev, murmur_spans=sp_in,
                      truth=truth, parts=parts)
 
