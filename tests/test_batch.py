@@ -378,6 +378,29 @@ def test_workers_exit_when_the_batch_process_is_killed(study, tmp_path):
     assert not alive, "orphaned workers kept running after the batch was killed"
 
 
+class _KillsItsWorker:
+    """Unpickling this in a worker ends the worker process at once (a real crash)."""
+
+    def __reduce__(self):
+        return (os._exit, (3,))
+
+
+def test_a_worker_crash_is_isolated_to_its_file(study):
+    from eddyphone.batch.runner import run_local
+    from eddyphone.config import Config
+
+    files = sorted(study.rglob("*.wav"))[:3]
+    tasks = [{"key": f"k{i}", "path": str(p), "config": Config()} for i, p in enumerate(files)]
+    tasks.insert(1, {"key": "crash", "path": "crash.wav", "config": _KillsItsWorker()})
+    reported: list[dict] = []
+    run_local(tasks, 2, reported.append)
+    assert sorted(r["key"] for r in reported) == sorted(t["key"] for t in tasks)  # once each
+    results = {r["key"]: r for r in reported}
+    assert results["crash"]["status"] == "error"
+    assert "worker process died" in results["crash"]["error"]
+    assert all(results[f"k{i}"]["status"] == "ok" for i in range(3))
+
+
 def test_local_cluster_equals_local_run(study, reference, tmp_path):
     distributed = pytest.importorskip("distributed")
     with distributed.LocalCluster(n_workers=2, threads_per_worker=1, processes=True,
