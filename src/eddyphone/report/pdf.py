@@ -99,7 +99,7 @@ class _Pages:
     def heading(self, s: str, level: int = 1) -> None:
         size = 13 if level == 1 else 10.5
         lines = self._wrap(s, self.width, size * 1.08)  # bold runs wider
-        self.need((0.9 if level == 1 else 0.6) + size * 1.3 * _PT * (len(lines) - 1))
+        self.need((2.0 if level == 1 else 1.0) + size * 1.3 * _PT * (len(lines) - 1))  # no orphans
         self.y += 0.14 if level == 1 else 0.08
         for line in lines[:-1]:
             self._text(MARGIN_IN, self.y, line, size, weight="bold")
@@ -181,6 +181,9 @@ class _Pages:
         if height > room:
             height, width = room, room * w_px / h_px
         extra = 0.3 if caption else 0.1
+        left = PAGE_IN[1] - MARGIN_IN - self.y - extra
+        if height > left >= 0.7 * height:  # shrink a little rather than leave a gap
+            width, height = width * left / height, left
         self.need(height + extra)
         ax = self.fig.add_axes([MARGIN_IN / PAGE_IN[0], 1 - (self.y + height) / PAGE_IN[1],
                                 width / PAGE_IN[0], height / PAGE_IN[1]])
