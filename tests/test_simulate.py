@@ -540,3 +540,18 @@ def test_parts_add_up_and_recording_view():
     assert np.abs(sim.x - (p["cardiac"] + p["noise"])).max() <= 0.5 / 32768 + 1e-12
     rec = sim.recording()
     assert rec.fs == sim.fs and rec.site == "mitral" and rec.x is sim.x
+
+
+def test_paradoxical_split_reverses_order_and_breathing():
+    # paradoxical splitting: P2 before A2, wider on expiration (common practice)
+    sim = generate(CaseSpec(s2_split="paradoxical", duration_s=20, seed=60, rsa_swing_bpm=0.0,
+                            **QUIET))
+    beats = sim.truth["beats"]
+    split = np.array([b["s2_split_s"] for b in beats])  # P2 minus A2
+    vol = np.array([b["lung_volume"] for b in beats])
+    assert np.all(split < 0)
+    assert (-split[vol < 0.3]).mean() > (-split[vol > 0.6]).mean() + 0.01
+    for b in beats:  # S2 starts with P2, at the regression's S2 onset
+        assert b["s2_start_s"] == pytest.approx(b["p2_s"])
+        mean, sd = ph.systolic_interval_s(b["hr_for_systole_bpm"])
+        assert abs(b["systolic_interval_s"] - mean) < 3 * sd

@@ -10,6 +10,7 @@ from hypothesis import strategies as st
 from eddyphone import physics
 from eddyphone.simulate import MURMUR_CAUSES, SITES, CaseSpec, MurmurSpec, generate
 from eddyphone.simulate.chain import DEVICES
+from eddyphone.simulate.spec import S2_SPLITS
 
 causes = [c for c in MURMUR_CAUSES if c != "none"]
 
@@ -26,7 +27,7 @@ spec_st = st.builds(
     ectopic_rate=st.sampled_from([0.0, 0.1, 0.3]), duration_s=st.floats(3.0, 8.0),
     fs=st.sampled_from([1000.0, 2000.0, 4000.0, 8000.0]), murmur=murmur_st,
     s3=st.booleans(), s4=st.booleans(), ejection_click=st.booleans(),
-    opening_snap=st.booleans(), snr_db=st.floats(-5, 40), device=st.sampled_from(sorted(DEVICES)),
+    opening_snap=st.booleans(), s2_split=st.sampled_from(S2_SPLITS), snr_db=st.floats(-5, 40), device=st.sampled_from(sorted(DEVICES)),
     site=st.sampled_from(SITES), speech=st.sampled_from([0.0, 0.4]),
     friction_per_min=st.sampled_from([0.0, 30.0]), hum_hz=st.sampled_from([None, 60.0]),
     adventitious=st.sampled_from(["none", "crackles", "wheeze"]),

@@ -187,7 +187,7 @@ def benchmark_specs(n: int, *, seed: int = 0, duration_s: float = 15.0) -> list[
             s4=bool(sinus and rng.uniform() < 0.12),
             ejection_click=bool(cause == "narrowed_outflow" and rng.uniform() < 0.3),
             opening_snap=bool(cause == "narrowed_inflow" and rng.uniform() < 0.7),
-            s2_split=str(rng.choice(["physiological"] * 6 + ["fixed", "single"])),
+            s2_split=str(rng.choice(["physiological"] * 7 + ["fixed", "single", "paradoxical"])),
             snr_db=float(np.round(snr[i], 2)),
             device=devices[i % len(devices)] if rng.uniform() < 0.8 else "steep_tilt",
             chest_wall_cutoff_hz=float(rng.uniform(150, 600)),

@@ -209,6 +209,10 @@ def generate(spec: CaseSpec, *, seed: int | None = None) -> Simulated:
             split = split_lo + (split_hi - split_lo) * vol + r_sound.normal(0, 0.002)
         elif spec.s2_split == "fixed":
             split = fixed_split + r_sound.normal(0, 0.002)
+        elif spec.s2_split == "paradoxical":
+            # aortic closure delayed behind pulmonic: wide on expiration, narrow on
+            # inspiration (common practice)
+            split = split_hi - (split_hi - split_lo) * vol + r_sound.normal(0, 0.002)
         else:
             split = r_sound.uniform(0.0, 0.008)
         split = max(split, 0.0)
@@ -238,9 +242,11 @@ def generate(spec: CaseSpec, *, seed: int | None = None) -> Simulated:
         t1 = add_component(sounds, fs, s1 + m1_lead + t1_delay, comp1,
                            site["S1"] * site["T1"] * g1, timbres["T1"], r_sound,
                            pitch_scale=ps)
-        a2 = add_component(sounds, fs, s1 + sys, comp2, site["S2"] * g2 * a2_cause,
+        a2_at, p2_at = (s1 + sys + split, s1 + sys) if spec.s2_split == "paradoxical" else (
+            s1 + sys, s1 + sys + split)
+        a2 = add_component(sounds, fs, a2_at, comp2, site["S2"] * g2 * a2_cause,
                            timbres["A2"], r_sound, pitch_scale=ps)
-        p2 = add_component(sounds, fs, s1 + sys + split, comp2, site["S2"] * site["P2"] * g2,
+        p2 = add_component(sounds, fs, p2_at, comp2, site["S2"] * site["P2"] * g2,
                            timbres["P2"], r_sound, pitch_scale=ps)
         nxt = s1 + rr
         row = {
@@ -248,7 +254,7 @@ def generate(spec: CaseSpec, *, seed: int | None = None) -> Simulated:
             "s2_start_s": min(a2[0], p2[0]), "s2_end_s": max(a2[1], p2[1]),
             "next_s1_s": float(round(nxt * fs) / fs), "rr_s": float(rr), "rr_prev_s": rr_prev,
             "premature": premature, "hr_for_systole_bpm": hr_for_systole,
-            "systolic_interval_s": a2[0] - s1a[0],
+            "systolic_interval_s": min(a2[0], p2[0]) - s1a[0],
             "systolic_interval_expected_s": sys_mean,
             "m1_s": m1[0], "t1_s": t1[0], "a2_s": a2[0], "p2_s": p2[0],
             "s1_split_s": t1[0] - m1[0], "s2_split_s": p2[0] - a2[0],

@@ -24,7 +24,7 @@ SITES = ("aortic", "pulmonic", "tricuspid", "mitral")
 
 RHYTHMS = ("sinus", "irregular")
 
-S2_SPLITS = ("physiological", "fixed", "single")
+S2_SPLITS = ("physiological", "fixed", "single", "paradoxical")
 
 ADVENTITIOUS = ("none", "crackles", "wheeze")
 
@@ -118,8 +118,10 @@ class CaseSpec:
         The murmur, if any.
     s3, s4, ejection_click, opening_snap : bool
         Extra sounds.
-    s2_split : {'physiological', 'fixed', 'single'}
-        How A2 and P2 separate: widening on inspiration, fixed wide, or never.
+    s2_split : {'physiological', 'fixed', 'single', 'paradoxical'}
+        How A2 and P2 separate: widening on inspiration, fixed wide, never, or reversed
+        (P2 first, widening on expiration). The S2 onset keeps the systolic-interval
+        regression in every case.
     snr_db : float
         Cardiac-to-noise power ratio after the device, in the 25-400 Hz band.
     device : str
