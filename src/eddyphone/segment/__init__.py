@@ -68,6 +68,9 @@ class SegmentConfig:
         (heart rate re-estimated per chunk; memory stays bounded).
     min_run_s : float
         Usable stretches shorter than this are skipped (too short for a rhythm).
+    adapt_weight : float
+        Weight (0-1) of emissions re-fitted to the recording's own first decoding
+        (0 switches this adaptation off).
     emission_model : str or None
         Path of an emission model JSON; None uses the shipped model.
     """
@@ -86,6 +89,7 @@ class SegmentConfig:
     chunk_s: float = 60.0
     overlap_s: float = 6.0
     min_run_s: float = 2.5
+    adapt_weight: float = 0.5
     emission_model: str | None = None
 
     def __post_init__(self) -> None:
@@ -275,7 +279,7 @@ def _refine(loglik, starts, states, est: HeartRateEstimate, ffs: float, cfg: Seg
     hr = float(np.clip(hr, cfg.min_bpm * 0.9, cfg.max_bpm * 1.1))
     spread = float(np.std(rr)) if cv > 0.5 * cfg.irregular_rr_cv else 0.0
     ld, ls = _tables(hr, sys_s, spread, ffs, cfg)
-    return viterbi_cyclic(loglik, ld, ls)
+    return (*viterbi_cyclic(loglik, ld, ls), (ld, ls))
 
 
 #: Length of the excerpt on which competing heart rates are compared, s.
@@ -322,8 +326,36 @@ def _hypotheses(cands: list[HeartRateEstimate], sound: np.ndarray, ffs: float,
     return out
 
 
+def _adapted(loglik: np.ndarray, feats: np.ndarray, starts: np.ndarray, ends: np.ndarray,
+             states: np.ndarray, weight: float) -> np.ndarray:
+    """Mix the shipped emissions with Gaussians fitted to this recording's first decoding.
+
+    One step of unsupervised adaptation: each state's frames (as first decoded) give a
+    diagonal Gaussian over the features; its class posterior, divided by the state
+    frequencies, is averaged (in the log domain, with ``weight``) with the shipped
+    model. A device or noise the training never saw moves the features; the
+    recording's own statistics follow them.
+    """
+    lab = np.repeat(states, ends - starts)
+    n = loglik.shape[1]
+    counts = np.bincount(lab, minlength=n)
+    if np.any(counts < 10):
+        return loglik
+    ll = np.empty_like(loglik)
+    for j in range(n):
+        f = feats[lab == j]
+        mu = f.mean(axis=0)
+        var = f.var(axis=0) + 0.05
+        ll[:, j] = -0.5 * np.sum((feats - mu) ** 2 / var + np.log(var), axis=1)
+    prior = np.log(counts / counts.sum())
+    post = ll + prior
+    post -= np.logaddexp.reduce(post, axis=1, keepdims=True)
+    return (1.0 - weight) * loglik + weight * (post - prior)
+
+
 def _decode_chunk(loglik: np.ndarray, homo: np.ndarray, tilt: np.ndarray, sound: np.ndarray,
-                  homo_rel: np.ndarray, ffs: float, cfg: SegmentConfig) -> _Decoded:
+                  homo_rel: np.ndarray, ffs: float, cfg: SegmentConfig,
+                  feats: np.ndarray | None = None) -> _Decoded:
     cands = period_candidates(homo, ffs, min_bpm=cfg.min_bpm, max_bpm=cfg.max_bpm)
     hyps = _hypotheses(cands, sound, ffs, cfg)
     n_probe = min(len(loglik), int(_PROBE_S * ffs))
@@ -340,7 +372,10 @@ def _decode_chunk(loglik: np.ndarray, homo: np.ndarray, tilt: np.ndarray, sound:
     starts, ends, states, _ = viterbi_cyclic(loglik, ld, ls)
     again = _refine(loglik, starts, states, est, ffs, cfg)
     if again is not None:
-        starts, ends, states, _ = again
+        starts, ends, states, _, (ld, ls) = again
+    if feats is not None and cfg.adapt_weight > 0:
+        loglik = _adapted(loglik, feats, starts, ends, states, cfg.adapt_weight)
+        starts, ends, states, _ = viterbi_cyclic(loglik, ld, ls)
     if _swap_evidence(starts, ends, states, tilt, ffs, loglik) < 0:
         # S1 <-> S2 and systole <-> diastole: the same boundaries, labels mirrored.
         states = (states + 2) % 4
@@ -410,7 +445,7 @@ def _decode_run(feat: np.ndarray, homo: np.ndarray, model: EmissionModel, ffs: f
         post = np.exp(loglik + model.log_prior)
         posts.append((lo, hi, post))
         dec = _decode_chunk(loglik, homo[lo:hi], f[:, FEATURE_NAMES.index("pitch_tilt")],
-                            post[:, 0] + post[:, 2], f[:, 0], ffs, cfg)
+                            post[:, 0] + post[:, 2], f[:, 0], ffs, cfg, feats=f)
         estimates.append(dec.estimate)
         segs = [(int(s) + lo, int(e) + lo, int(k))
                 for s, e, k in zip(dec.starts, dec.ends, dec.states, strict=True)]
