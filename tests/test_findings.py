@@ -21,7 +21,12 @@ from eddyphone.findings import extra as extra_mod
 from eddyphone.findings.config import PITCH_BOUNDARIES_HZ, TIMING_THIRDS
 from eddyphone.findings.grade import MAX_AUDIO_GRADE, grade_range
 from eddyphone.findings.measures import beat_windows, spectrogram
-from eddyphone.findings.murmur import pitch_word, shape_word, timing_word
+from eddyphone.findings.murmur import (
+    pitch_word,
+    relative_pitch_word,
+    shape_word,
+    timing_word,
+)
 from eddyphone.segment.beats import Segment, beats_from_segments
 from eddyphone.simulate import CaseSpec, MurmurSpec, generate
 
@@ -80,6 +85,27 @@ def test_grade_never_above_three_from_sound():
     # "about as loud as the heart sounds" straddles II-III (after Keren et al. 2005,
     # from memory)
     assert grade_range(0.0) == (2, 3)
+
+
+def test_relative_pitch_cancels_a_device_tilt():
+    # the same murmur and heart sounds seen through a strong low-pass tilt: the
+    # absolute centroid falls, the ratio to the heart sounds' centroid much less
+    # (centroids computed by librosa on white noise shaped by each response)
+    rng = np.random.default_rng(3)
+    n = int(FS)
+
+    def centroid(lo, hi, tilt_db_per_oct):
+        f = np.fft.rfftfreq(n, 1 / FS)
+        spec = np.fft.rfft(rng.standard_normal(n)) * ((f >= lo) & (f < hi))
+        spec *= 10 ** (tilt_db_per_oct * np.log2(np.maximum(f, 25.0) / 25.0) / 20)
+        y = np.fft.irfft(spec, n)
+        return float(librosa.feature.spectral_centroid(y=y, sr=int(FS), n_fft=n,
+                                                       hop_length=n, center=False)[0, 0])
+
+    for tilt in (0.0, -12.0):
+        hs, mur = centroid(30, 150, tilt), centroid(150, 600, tilt)
+        assert relative_pitch_word(mur, hs) == "high"
+    assert pitch_word(centroid(150, 600, -12.0)) != "high"  # the absolute rule is fooled
 
 
 def test_shape_words():

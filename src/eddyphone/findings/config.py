@@ -23,6 +23,16 @@ from eddyphone.errors import ParameterError
 #: below about 150 Hz and high-pitched murmurs above about 300 Hz).
 PITCH_BOUNDARIES_HZ = (150.0, 300.0)
 
+#: Pitch relative to the recording's own heart sounds, in octaves of the murmur's
+#: centroid above the centroid of S1/S2: low within 0.4 octave, high from 0.8
+#: octave up, medium between. S1 and S2 have much the same spectrum from person to
+#: person (most energy 25-150 Hz, common practice) and pass through the same
+#: stethoscope and chest wall as the murmur, so the ratio cancels most of the
+#: device's tilt, which the absolute boundaries above cannot. Our own boundaries,
+#: checked on the simulator's benchmark set (not on real recordings); the absolute
+#: centroid and dominant frequency are reported beside the word.
+PITCH_OCTAVES_RE_HEART_SOUNDS = (0.4, 0.8)
+
 #: Analysis bands (Hz) for per-beat band energies; the edges include the pitch
 #: boundaries so band energies and the pitch class agree. Octave-wide above 75 Hz
 #: (our own choice); the top band ends below the 900 Hz conditioning corner.

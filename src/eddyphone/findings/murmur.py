@@ -33,7 +33,11 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from eddyphone.findings.config import PITCH_BOUNDARIES_HZ, FindingsConfig
+from eddyphone.findings.config import (
+    PITCH_BOUNDARIES_HZ,
+    PITCH_OCTAVES_RE_HEART_SOUNDS,
+    FindingsConfig,
+)
 from eddyphone.findings.grade import grade_range
 from eddyphone.findings.measures import DIA, SYS, Profiles, Spectrogram
 from eddyphone.findings.records import GRADE_NOTE, Murmur
@@ -60,6 +64,12 @@ STEADY_SPREAD = 1.5
 #: A murmur's extent for the timing word: where its power is within this many dB
 #: of its peak (the same -20 dB edge the simulator's truth uses; our own choice).
 EXTENT_DB = 20.0
+
+#: When the recording's own S1/S2 centroid lies below this (Hz), the device or
+#: chest wall is tilting the spectrum hard (S1/S2 normally spread over 25-150 Hz,
+#: common practice) and pitch is judged relative to the heart sounds instead of on
+#: the absolute boundaries. Our own switch, checked on the simulator benchmark.
+TILTED_HEART_SOUNDS_HZ = 55.0
 
 #: Lowest dominant frequency (Hz) at which a murmur can be called musical: the
 #: 32-ms analysis frames resolve about 31 Hz, so a tone is only distinguishable from
@@ -132,6 +142,25 @@ def pitch_word(centroid_hz: float, boundaries_hz: tuple[float, float] = PITCH_BO
     if centroid_hz < lo:
         return "low"
     return "medium" if centroid_hz < hi else "high"
+
+
+def relative_pitch_word(centroid_hz: float, heart_sound_centroid_hz: float,
+                        octaves: tuple[float, float] = PITCH_OCTAVES_RE_HEART_SOUNDS) -> str:
+    """'low', 'medium' or 'high' from the murmur's centroid relative to that of the
+    same recording's S1/S2 (see :data:`~eddyphone.findings.config.PITCH_OCTAVES_RE_HEART_SOUNDS`).
+
+    Examples
+    --------
+    >>> relative_pitch_word(60.0, 50.0), relative_pitch_word(80.0, 50.0)
+    ('low', 'medium')
+    >>> relative_pitch_word(120.0, 50.0)
+    'high'
+    """
+    up = np.log2(max(centroid_hz, 1e-9) / max(heart_sound_centroid_hz, 1e-9))
+    lo, hi = octaves
+    if up < lo:
+        return "low"
+    return "medium" if up < hi else "high"
 
 
 def quality_words(*, pitch: str, tonality: float, relative_spread: float, roughness: float,
@@ -343,6 +372,12 @@ def _spectral(spec: Spectrogram, prof: Profiles, use: np.ndarray, w: int, k0: in
             "tonality": tonality, "excess": excess}
 
 
+def _centroid_of(f: np.ndarray, p: np.ndarray, fs: float) -> float:
+    sel = (f >= 25.0) & (f <= min(900.0, 0.45 * fs))
+    tot = float(np.sum(p[sel]))
+    return float(np.sum(f[sel] * p[sel]) / tot) if tot > 0 else float("nan")
+
+
 def _roughness(spec: Spectrogram, prof: Profiles, use: np.ndarray, w: int, k0: int, k1: int,
                bands: tuple[int, ...], n_bins: int) -> float:
     """Fast (roughly 10-40 Hz) fluctuation of the murmur-band envelope, relative to its
@@ -524,7 +559,13 @@ def find_murmurs(spec: Spectrogram, prof: Profiles, config: FindingsConfig) -> M
         sp = _spectral(spec, prof, use, c.window, c.k0, c.k1, quiet, n_bins, fs)
         rough = _roughness(spec, prof, use, c.window, c.k0, c.k1, c.bands, n_bins)
         centroid = sp["centroid_hz"]
-        pitch = pitch_word(centroid) if np.isfinite(centroid) else "medium"
+        hs_c = _centroid_of(spec.f, np.median(prof.hs_spectrum[use], axis=0), fs)
+        if not np.isfinite(centroid):
+            pitch = "medium"
+        elif np.isfinite(hs_c) and hs_c < TILTED_HEART_SOUNDS_HZ:
+            pitch = relative_pitch_word(centroid, hs_c)
+        else:
+            pitch = pitch_word(centroid)
         rel_spread = sp["spread"] / centroid if np.isfinite(centroid) and centroid > 0 else 0.0
         words = quality_words(pitch=pitch, tonality=sp["tonality"], relative_spread=rel_spread,
                               roughness=rough, tonal_threshold=cfg.tonal_threshold,

@@ -48,7 +48,8 @@ class Murmur:
     shape : {'crescendo', 'decrescendo', 'crescendo-decrescendo', 'plateau'}
     shape_confidence : float
     pitch : {'low', 'medium', 'high'}
-        From ``centroid_hz`` against ``findings.config.PITCH_BOUNDARIES_HZ``.
+        From ``centroid_hz`` relative to the S1/S2 centroid of the same recording
+        (``findings.config.PITCH_OCTAVES_RE_HEART_SOUNDS``).
     dominant_frequency_hz, centroid_hz : float
         Peak and centroid of the murmur's excess spectrum (above the noise floor).
     quality_words : tuple of str
