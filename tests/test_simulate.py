@@ -555,3 +555,16 @@ def test_paradoxical_split_reverses_order_and_breathing():
         assert b["s2_start_s"] == pytest.approx(b["p2_s"])
         mean, sd = ph.systolic_interval_s(b["hr_for_systole_bpm"])
         assert abs(b["systolic_interval_s"] - mean) < 3 * sd
+
+
+def test_musical_murmur_tone_follows_vortex_shedding():
+    # von Karman shedding behind a thin cylinder, St ~ 0.2 (common practice):
+    # f = 0.2 v / d; 5 m/s past a 5 mm chord -> 200 Hz, the PSD peak of the murmur
+    m = MurmurSpec("systolic_leak", diameter_m=0.005, velocity_m_s=5.0, tone_diameter_m=0.005)
+    plan, x = _render(m, fs=4000.0)
+    assert plan.tone_hz == pytest.approx(200.0)
+    assert plan.quality == "musical"
+    f, p = signal.welch(x, fs=4000.0, nperseg=4096)
+    assert f[np.argmax(p)] == pytest.approx(200.0, rel=0.05)
+    plain, y = _render(MurmurSpec("systolic_leak", diameter_m=0.005, velocity_m_s=5.0))
+    assert plain.quality == "blowing" and plain.tone_hz is None

@@ -101,8 +101,10 @@ def demo_specs() -> dict[str, CaseSpec]:
 def _draw_murmur(cause: str, rng: np.random.Generator) -> MurmurSpec:
     u = rng.uniform
     if cause == "high_flow":
+        # about a third musical (a thin structure in the stream sheds vortices)
+        tone = u(0.0015, 0.003) if rng.uniform() < 0.35 else None
         return MurmurSpec(cause, diameter_m=u(0.018, 0.024), velocity_m_s=u(1.6, 2.5),
-                          hematocrit=u(0.38, 0.48))
+                          hematocrit=u(0.38, 0.48), tone_diameter_m=tone)
     if cause == "low_viscosity":
         return MurmurSpec(cause, diameter_m=u(0.019, 0.024), velocity_m_s=u(1.4, 2.1),
                           hematocrit=u(0.15, 0.28))
@@ -218,7 +220,7 @@ _INDEX_FIELDS = ["id", "file", "truth_csv", "truth_json", "heart_rate_bpm", "rhy
                  "n_premature", "fs_hz", "duration_s", "snr_db", "device", "site",
                  "murmur_present", "murmur_cause", "murmur_phase", "murmur_timing",
                  "murmur_shape", "murmur_measured_timing", "murmur_measured_shape",
-                 "murmur_grade", "murmur_level_db_re_s1", "murmur_pitch",
+                 "murmur_grade", "murmur_level_db_re_s1", "murmur_pitch", "murmur_quality",
                  "murmur_centre_hz", "reynolds", "peak_velocity_m_s", "diameter_m",
                  "hematocrit", "s3", "s4", "click", "snap", "s2_split", "breathing",
                  "speech", "friction_per_min", "hum_hz", "clipped_fraction", "note"]
@@ -242,7 +244,7 @@ def _index_row(case_id: str, sim, spec: CaseSpec) -> dict:
         "murmur_measured_shape": (m.get("measured") or {}).get("shape") or "",
         "murmur_grade": m.get("grade", 0),
         "murmur_level_db_re_s1": round(m["level_db_re_s1"], 2) if "level_db_re_s1" in m else "",
-        "murmur_pitch": m.get("pitch", ""),
+        "murmur_pitch": m.get("pitch", ""), "murmur_quality": m.get("quality", ""),
         "murmur_centre_hz": round(m["centre_hz"], 1) if "centre_hz" in m else "",
         "reynolds": round(phys["reynolds"]) if phys else "",
         "peak_velocity_m_s": round(phys["peak_velocity_m_s"], 3) if phys else "",

@@ -576,6 +576,8 @@ def _murmur_truth(plan, murmur, sounds, beat_rows, spans, profiles, fs, spec, si
                      "window": {"systolic": "S1 end to S2 start",
                                 "diastolic": "S2 end to next S1 start",
                                 "continuous": "S1 start to next S1 start"}[plan.phase]},
+        "quality": plan.quality,
+        "tone_hz": plan.tone_hz,
         "pitch": pitch_word(summary["centre_hz"]),
         "centre_hz": summary["centre_hz"],
         "pitch_band_hz": summary["band_hz"],

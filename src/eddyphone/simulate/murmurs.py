@@ -99,6 +99,27 @@ GRADE_EDGES_DB = (-20.0, -13.0, -6.0, 0.0, 6.0)
 #: Pitch words from the spectral centroid of the source, Hz (our own cut points).
 PITCH_EDGES_HZ = (180.0, 400.0)
 
+#: Strouhal number of vortex shedding behind a thin cylinder, about 0.2 over Re
+#: 300-200,000 (the von Karman street; common practice). A thin structure in the jet
+#: sheds vortices at f = 0.2 v / d and makes the murmur musical.
+SHEDDING_STROUHAL = 0.2
+
+#: Share of the murmur's power carried by the tone when a shedding structure is there
+#: (our own choice).
+TONE_FRACTION = 0.6
+
+#: Quality words by cause (the trade's descriptions).
+QUALITY = {
+    "high_flow": "soft ejection",
+    "low_viscosity": "soft ejection",
+    "wall_irregularity": "harsh",
+    "narrowed_outflow": "harsh",
+    "systolic_leak": "blowing",
+    "diastolic_leak": "blowing",
+    "narrowed_inflow": "rumbling",
+    "continuous": "machinery",
+}
+
 #: Pressure half-time of a narrowed mitral valve: 220 ms divided by the valve area
 #: in cm2 (Hatle, Angelsen & Tromsdal 1979, from memory).
 PRESSURE_HALF_TIME_CONSTANT_S_CM2 = 0.220
@@ -200,6 +221,9 @@ class MurmurPlan:
     level_db_re_s1: float
     grade: int
     audible: bool
+    quality: str = ""
+    tone_diameter_m: float | None = None
+    tone_hz: float | None = None
 
     def to_dict(self) -> dict:
         """JSON-ready dictionary."""
@@ -250,6 +274,11 @@ def plan_murmur(m: MurmurSpec) -> MurmurPlan:
         level_db_re_s1=float(level),
         grade=grade_from_level(level) if np.isfinite(level) else 0,
         audible=bool(np.isfinite(level) and level > GRADE_EDGES_DB[0] - 10.0),
+        quality="musical" if m.tone_diameter_m else QUALITY[m.cause],
+        tone_diameter_m=m.tone_diameter_m,
+        tone_hz=float(physics.strouhal_frequency_hz(velocity_m_s=v, diameter_m=m.tone_diameter_m,
+                                                    strouhal=SHEDDING_STROUHAL))
+        if m.tone_diameter_m else None,
     )
 
 
@@ -410,6 +439,15 @@ def render_murmur(plan: MurmurPlan, beats: list[dict], n: int, fs: float,
         rough = signal.sosfiltfilt(signal.butter(2, [12, 40], "band", fs=fs, output="sos"),
                                    rng.standard_normal(n))
         y *= 1.0 + 0.35 * rough / (rough.std() + 1e-20)
+    if plan.tone_diameter_m:
+        # vortex shedding off a thin structure: a tone at St_shed v / d that glides with
+        # the velocity, with two weaker harmonics
+        f_tone = SHEDDING_STROUHAL * v / plan.tone_diameter_m
+        f_tone = np.minimum(f_tone, 0.4 * fs)
+        ph = 2 * np.pi * np.cumsum(f_tone) / fs + rng.uniform(0, 2 * np.pi)
+        tone = np.sin(ph) + 0.35 * np.sin(2 * ph) + 0.12 * np.sin(3 * ph)
+        tone /= np.sqrt(np.mean(tone**2)) + 1e-20
+        y = np.sqrt(1 - TONE_FRACTION) * y + np.sqrt(TONE_FRACTION) * tone
     x = amp * y
     intervals = []
     profiles = []

@@ -48,6 +48,9 @@ class MurmurSpec:
     transition_factor : float
         Multiplies the transition Reynolds numbers; below 1 models a rough or
         irregular wall that trips turbulence early (used by ``wall_irregularity``).
+    tone_diameter_m : float or None
+        Size of a thin structure in the stream (a chord or band) that sheds vortices
+        and makes the murmur musical, in metres; None for no tone.
     """
 
     cause: str = "narrowed_outflow"
@@ -56,6 +59,7 @@ class MurmurSpec:
     flow_m3_s: float | None = None
     hematocrit: float = 0.45
     transition_factor: float = 1.0
+    tone_diameter_m: float | None = None
 
     def __post_init__(self) -> None:
         if self.cause not in MURMUR_CAUSES:
@@ -80,6 +84,10 @@ class MurmurSpec:
             raise ParameterError(
                 f"hematocrit={self.hematocrit!r} is outside 0.05-0.75; give a fraction, "
                 "e.g. 0.45 (not 45)"
+            )
+        if self.tone_diameter_m is not None and not 2e-4 <= self.tone_diameter_m <= 0.01:
+            raise ParameterError(
+                f"tone_diameter_m={self.tone_diameter_m!r} is outside 0.2-10 mm; give metres"
             )
         if not 0.2 <= self.transition_factor <= 2.0:
             raise ParameterError(
