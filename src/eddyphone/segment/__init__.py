@@ -260,8 +260,9 @@ def _swap_evidence(starts: np.ndarray, ends: np.ndarray, states: np.ndarray,
     return timing + stability + pitch + emission + duration
 
 
-def _refine(loglik, starts, states, est: HeartRateEstimate, ffs: float, cfg: SegmentConfig):
-    """Second pass with the rate, systolic interval and RR spread of the first."""
+def _refine(starts, states, est: HeartRateEstimate, ffs: float, cfg: SegmentConfig):
+    """Duration tables for a second pass, from the rate, systolic interval and RR
+    spread of the first (None when they agree with the first pass's assumptions)."""
     s1 = starts[(states == 0) & (starts > 0)]
     if len(s1) < 3:
         return None
@@ -278,8 +279,7 @@ def _refine(loglik, starts, states, est: HeartRateEstimate, ffs: float, cfg: Seg
         return None
     hr = float(np.clip(hr, cfg.min_bpm * 0.9, cfg.max_bpm * 1.1))
     spread = float(np.std(rr)) if cv > 0.5 * cfg.irregular_rr_cv else 0.0
-    ld, ls = _tables(hr, sys_s, spread, ffs, cfg)
-    return (*viterbi_cyclic(loglik, ld, ls), (ld, ls))
+    return _tables(hr, sys_s, spread, ffs, cfg)
 
 
 #: Length of the excerpt on which competing heart rates are compared, s.
@@ -370,11 +370,15 @@ def _decode_chunk(loglik: np.ndarray, homo: np.ndarray, tilt: np.ndarray, sound:
             best_key, est, spread = key, c, sp
     ld, ls = _tables(est.heart_rate_bpm, est.systolic_interval_s, spread, ffs, cfg)
     starts, ends, states, _ = viterbi_cyclic(loglik, ld, ls)
-    again = _refine(loglik, starts, states, est, ffs, cfg)
-    if again is not None:
-        starts, ends, states, _, (ld, ls) = again
-    if feats is not None and cfg.adapt_weight > 0:
+    # Second pass: durations from the first pass where it disagrees with the
+    # assumptions, emissions adapted to this recording; one decoding for both.
+    again = _refine(starts, states, est, ffs, cfg)
+    adapt = feats is not None and cfg.adapt_weight > 0
+    if adapt:
         loglik = _adapted(loglik, feats, starts, ends, states, cfg.adapt_weight)
+    if again is not None:
+        ld, ls = again
+    if again is not None or adapt:
         starts, ends, states, _ = viterbi_cyclic(loglik, ld, ls)
     if _swap_evidence(starts, ends, states, tilt, ffs, loglik) < 0:
         # S1 <-> S2 and systole <-> diastole: the same boundaries, labels mirrored.

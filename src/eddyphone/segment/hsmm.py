@@ -96,18 +96,19 @@ def viterbi_cyclic(log_emission: np.ndarray, log_duration: np.ndarray,
     # offs[j][r, k] = pad + r - durs[j][k]; row r is frame lo + r.
     offs = [pad + np.arange(width)[:, None] - durs[j][None, :] for j in range(n)]
     frames = np.arange(n_frames + 1)
+    rows = [np.arange(width) * len(durs[j]) for j in range(n)]  # flat row offsets
     frontier = np.zeros(n, dtype=int)  # end[j, 1..frontier[j]] is known
     while frontier.min() < n_frames:
         for j in range(n):
             lo = frontier[j] + 1
-            hi = min(n_frames, frontier[prev[j]] + dmins[j])
+            hi = min(n_frames, frontier[prev[j]] + dmins[j], lo + width - 1)
             if hi < lo:
                 continue
             m = hi - lo + 1
             vals = hp[j].take(offs[j][:m] + lo)
             vals += ldj[j]
             k = vals.argmax(axis=1)
-            best = vals.max(axis=1)
+            best = vals.ravel().take(k + rows[j][:m])
             best += cum_t[j, lo: hi + 1]
             if lo <= n_first:
                 f = first[j, lo: hi + 1]
