@@ -320,7 +320,8 @@ def demo_readme(index_rows: list[dict], specs: dict[str, CaseSpec]) -> str:
         "All files are mono WAV, 16-bit PCM at 4 kHz, at most 20 s long. Each has two "
         "truth files made at the same time as the sound, so the truth is exact.",
         "",
-        "| id | case | heart rate, rhythm | murmur (cause: phase, timing, shape, grade, pitch)"
+        "| id | case | heart rate, rhythm | murmur (cause: phase, timing, shape, grade, pitch, "
+        "quality)"
         " | extra sounds | site / device | SNR, noise |",
         "|---|---|---|---|---|---|---|",
     ]
@@ -331,7 +332,7 @@ def demo_readme(index_rows: list[dict], specs: dict[str, CaseSpec]) -> str:
         else:
             mur = (f"{r['murmur_cause']}: {r['murmur_phase']}, {r['murmur_timing']}, "
                    f"{r['murmur_shape']}, grade {_ROMAN[int(r['murmur_grade'])]}, "
-                   f"{r['murmur_pitch']}")
+                   f"{r['murmur_pitch']}, {r['murmur_quality']}")
         extras = ", ".join(k for k, on in (("S3", spec.s3), ("S4", spec.s4),
                                            ("ejection click", spec.ejection_click),
                                            ("opening snap", spec.opening_snap)) if on) or "-"
