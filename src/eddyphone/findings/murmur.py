@@ -372,6 +372,18 @@ def _spectral(spec: Spectrogram, prof: Profiles, use: np.ndarray, w: int, k0: in
             "tonality": tonality, "excess": excess}
 
 
+def _accent(profile: np.ndarray, rise_db: float = 1.5, floor: float = 0.3) -> bool:
+    """True when the last quarter of a diastolic profile (peak 1) rises ``rise_db`` or
+    more above the lowest point of the middle half and reaches ``floor`` of the peak:
+    a presystolic swell, not noise in a faded tail (our own rule)."""
+    n = len(profile)
+    mid = profile[n // 4: (3 * n) // 4]
+    tail = profile[(3 * n) // 4:]
+    if len(mid) == 0 or len(tail) == 0 or mid.min() <= 0 or tail.max() < floor:
+        return False
+    return bool(10.0 * np.log10(tail.max() / mid.min()) >= rise_db)
+
+
 def _centroid_of(f: np.ndarray, p: np.ndarray, fs: float) -> float:
     sel = (f >= 25.0) & (f <= min(900.0, 0.45 * fs))
     tot = float(np.sum(p[sel]))
@@ -598,7 +610,9 @@ def find_murmurs(spec: Spectrogram, prof: Profiles, config: FindingsConfig) -> M
             beats_with_murmur=int(shows.sum()), beats_used=n_beats,
             profile=tuple(float(v) for v in full), spectrum=band_e,
             tonality=sp["tonality"], snr_db=snr, level_db_re_s1=level_s1,
-            onset_fraction=onset, end_fraction=end))
+            onset_fraction=onset, end_fraction=end,
+            presystolic_accent=bool(c.window == DIA and onset <= 1.0 / 3.0
+                                    and shape != "crescendo" and _accent(full))))
     if continuous and len(murmurs) == 2 and all(m.presence == "present" for m in murmurs):
         murmurs = [_merge_continuous(murmurs[0], murmurs[1])]
     murmurs.sort(key=lambda m: (m.presence != "present", -m.level_db_re_heart_sounds))

@@ -77,6 +77,9 @@ class Murmur:
         Murmur peak level relative to S1 alone (used to compare sites).
     onset_fraction, end_fraction : float
         Start and end of the murmur within its window (0-1), as used for timing.
+    presystolic_accent : bool
+        A diastolic murmur that swells again just before S1 (atrial contraction
+        pushing blood through a narrowed inflow valve).
     """
 
     id: str
@@ -105,6 +108,7 @@ class Murmur:
     level_db_re_s1: float = float("nan")
     onset_fraction: float = float("nan")
     end_fraction: float = float("nan")
+    presystolic_accent: bool = False
 
     @property
     def grade_text(self) -> str:
@@ -120,8 +124,9 @@ class Murmur:
         else:
             when = f"{self.timing}-{self.phase}" if self.phase != "continuous" else "continuous"
         words = " ".join(self.quality_words)
+        accent = " with presystolic accentuation" if self.presystolic_accent else ""
         text = (f"grade {self.grade_text}/VI {words + ' ' if words else ''}{when} "
-                f"{self.shape} murmur, {self.pitch}-pitched "
+                f"{self.shape} murmur{accent}, {self.pitch}-pitched "
                 f"(dominant {self.dominant_frequency_hz:.0f} Hz), "
                 f"in {self.beats_with_murmur}/{self.beats_used} beats")
         return text if self.presence == "present" else f"possible {text}"
@@ -152,6 +157,7 @@ class Murmur:
             "tonality": _r(self.tonality),
             "peak_fraction": _r(self.peak_fraction),
             "onset_fraction": _r(self.onset_fraction),
+            "presystolic_accent": bool(self.presystolic_accent),
             "end_fraction": _r(self.end_fraction),
             "beats_with_murmur": int(self.beats_with_murmur),
             "beats_used": int(self.beats_used),
