@@ -136,11 +136,15 @@ def main() -> None:
     out1, table1 = runs[1]
     in_worker = sum(r.get("elapsed_s", 0.0) for r in _records(out1))
     for workers, (out, _) in sorted(runs.items()):
-        task_cpu = sum(r.get("cpu_s", 0.0) for r in _records(out))
+        records = _records(out)
+        task_cpu = sum(r.get("cpu_s", 0.0) for r in records)
+        task_wall = sum(r.get("elapsed_s", 0.0) for r in records)
         machinery = cpus[workers] - task_cpu
-        print(f"batch machinery CPU with {workers} worker(s) (all but the analyses "
-              f"themselves): {machinery:.2f} s = {100 * machinery / task_cpu:.1f} % of the "
-              f"{task_cpu:.1f} s CPU the analyses took inside the workers")
+        print(f"{workers} worker(s): batch machinery CPU (all but the analyses themselves) "
+              f"{machinery:.2f} s = {100 * machinery / task_cpu:.1f} % of the {task_cpu:.1f} s "
+              f"CPU of the analyses; analyses in flight on average "
+              f"{task_wall / walls[workers]:.2f}; cores' worth of CPU obtained "
+              f"{cpus[workers] / walls[workers]:.2f} (last run)")
     overhead = (walls[1] - sum_single) / sum_single
     overhead_cpu = (cpus[1] - sum_single_cpu) / sum_single_cpu
     print(f"throughput: {len(files) / walls[args.workers]:.2f} recordings/s with "
