@@ -104,3 +104,15 @@ def test_cli_context_errors_are_one_line(wav):
     assert result.returncode != 0
     assert "hematocrit" in result.stderr and "fraction" in result.stderr
     assert "Traceback" not in result.stderr
+
+
+def test_a_recording_without_heart_sounds_gives_nulls_not_nan(tmp_path):
+    path = tmp_path / "static.wav"
+    sf.write(path, 0.1 * np.random.default_rng(0).standard_normal(40000), 4000)
+    out = tmp_path / "out"
+    result = _cli("analyze", str(path), "--out", str(out), "--no-report")
+    assert result.returncode == 0, result.stderr
+    data = json.loads((out / "static.json").read_text())  # strict JSON: no NaN tokens
+    assert data["summary"]["heart_rate_bpm"] is None
+    assert data["summary"]["murmur"] == "uncertain"
+    assert data["quality"]["score"] < 0.2 and data["skipped"]

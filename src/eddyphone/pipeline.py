@@ -7,6 +7,7 @@ documented in ``docs/output-contract.md``.
 
 from __future__ import annotations
 
+import math
 from collections.abc import Mapping
 from dataclasses import dataclass
 from pathlib import Path
@@ -42,7 +43,7 @@ class Analysis:
         """The headline: rhythm, murmur presence/phase/description, top mechanism."""
         out: dict[str, Any] = {"quality_score": round(self.quality.score, 3)}
         rhythm = getattr(self.segmentation, "rhythm", None)
-        if rhythm is not None:
+        if rhythm is not None and math.isfinite(rhythm.heart_rate_bpm):
             out["heart_rate_bpm"] = round(rhythm.heart_rate_bpm, 1)
             out["rhythm"] = "irregular" if rhythm.irregular else "regular"
             out["beats"] = len(self.segmentation.beats)
@@ -56,12 +57,16 @@ class Analysis:
                        extra_sounds=[], murmur_reason="murmur analysis is not available yet")
         top = self.explanation.top() if self.explanation is not None else None
         out["top_mechanism"] = top.name if top is not None else None
+        out["top_mechanism_score"] = round(top.score, 3) if top is not None else None
         return out
 
     def to_dict(self) -> dict:
-        """The JSON output contract (see ``docs/output-contract.md``)."""
+        """The JSON output contract (see ``docs/output-contract.md``).
+
+        Numbers that could not be measured (NaN, infinite) are written as ``null``.
+        """
         seg = self.segmentation
-        return {
+        return _finite_or_null({
             "schema_version": SCHEMA_VERSION,
             "eddyphone_version": __version__,
             "recording": {**self.recording.describe(), "conditioning":
@@ -83,7 +88,18 @@ class Analysis:
             "cautions": list(GENERAL_CAUTIONS)
             + (list(self.explanation.cautions) if self.explanation is not None else []),
             "config": {**self.config.to_dict(), "digest": self.config.digest()},
-        }
+        })
+
+
+def _finite_or_null(value: Any) -> Any:
+    """Replace non-finite floats by None, recursively (JSON has no NaN)."""
+    if isinstance(value, float):
+        return value if math.isfinite(value) else None
+    if isinstance(value, dict):
+        return {k: _finite_or_null(v) for k, v in value.items()}
+    if isinstance(value, (list, tuple)):
+        return [_finite_or_null(v) for v in value]
+    return value
 
 
 def analyze(

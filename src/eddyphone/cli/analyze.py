@@ -89,7 +89,7 @@ def run(args: argparse.Namespace) -> int:
     if out_dir is not None and analyses and (args.patient or args.manifest):
         _patient_views(analyses, out_dir, args)
     if out_dir is not None and analyses:
-        print(f"outputs in {out_dir}/", file=sys.stderr)
+        print(f"outputs in {out_dir}/")
     return 1 if failures else 0
 
 
@@ -172,7 +172,7 @@ def _one_line(analysis) -> str:
     else:
         murmur = f"murmur {murmur}"
     top = s.get("top_mechanism")
-    tail = f"; most likely: {top.replace('_', ' ')}" if top else ""
+    tail = f"; most likely: {top.replace('_', ' ')} ({s['top_mechanism_score']:.2f})" if top else ""
     return f"{analysis.recording.source}: {rate}; quality {s['quality_score']:.2f}; {murmur}{tail}"
 
 
