@@ -192,6 +192,17 @@ def test_mixed_good_and_broken_files(study, tmp_path):
     assert f"{len(broken)} failed" in done.stderr
 
 
+def test_missing_manifest_row_is_an_error_row_not_an_abort(study, tmp_path):
+    manifest = tmp_path / "m.csv"
+    good = study / "ward_a" / "rec_000.wav"
+    manifest.write_text(f"path,site\n{good},mitral\nnot_there.wav,aortic\n")
+    df = run_batch([manifest], tmp_path / "out", workers=1, progress=False)
+    assert df["path"].tolist() == [str(good)]
+    errors = df.attrs["errors"]
+    assert errors["path"].tolist() == [str(tmp_path / "not_there.wav")]
+    assert "not found" in errors["reason"].iloc[0]
+
+
 def test_all_good_exits_zero_and_csv_equals_parquet(study, reference, tmp_path):
     from eddyphone.cli import main
 
