@@ -144,14 +144,14 @@ def harmonise(df: Any) -> Any:
         col = out[name]
         if col.dtype != object:
             continue
-        kinds = {type(v) for v in col if v is not None and not (isinstance(v, float)
-                                                                 and v != v)}
-        if kinds <= {bool} or kinds <= {str} or not kinds:
-            continue
-        if kinds <= {int, float}:
+        values = [None if v is None or (isinstance(v, float) and v != v) else v for v in col]
+        kinds = {type(v) for v in values if v is not None}
+        if kinds <= {int, float} and kinds:
             out[name] = pd.to_numeric(col)
-        else:
-            out[name] = [None if v is None else str(v) for v in col]
+            continue
+        if not (kinds <= {bool} or kinds <= {str}):
+            values = [None if v is None else str(v) for v in values]
+        out[name] = pd.Series(values, index=out.index, dtype=object)
     return out
 
 
