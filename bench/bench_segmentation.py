@@ -254,8 +254,8 @@ def main() -> None:
     parser.add_argument("--skip-speed", action="store_true")
     parser.add_argument("--plots", type=Path, default=None)
     args = parser.parse_args()
-    accuracy(args.n, args.seed, args.plots)
-    accuracy(args.n, args.seed, None, use_quality=False)
+    accuracy(args.n, args.seed, None)
+    accuracy(args.n, args.seed, args.plots, use_quality=False)
     if not args.skip_speed:
         speed()
     if not args.skip_memory:

@@ -62,8 +62,9 @@ def state_durations(heart_rate_bpm: float, systolic_interval_s: float, *,
         In the order of :data:`STATES`.
     """
     period = 60.0 / heart_rate_bpm
+    # S1 at most 2.5 sd above its mean, so that an S4 just before it stays apart.
     s1 = StateDuration(s1_s[0], s1_s[1], max(0.03, s1_s[0] - 3 * s1_s[1]),
-                       s1_s[0] + 3.5 * s1_s[1])
+                       s1_s[0] + 2.5 * s1_s[1])
     s2 = StateDuration(s2_s[0], s2_s[1], max(0.03, s2_s[0] - 3 * s2_s[1]),
                        s2_s[0] + 3.5 * s2_s[1])
     sys_mean = max(systolic_interval_s - s1_s[0], 0.02)
