@@ -102,6 +102,9 @@ class FindingsConfig:
         Beats with a lower segmentation confidence are not used.
     tonal_threshold : float
         Spectral peakedness (0-1) above which a murmur is called musical.
+    tonal_present_consistency : float
+        Consistency a musical (tonal) murmur needs to be called present: tonal
+        sounds in chest recordings are more often wheezes or room speech.
     min_level_db_re_heart_sounds : float
         Excess softer than this relative to S1/S2 is not called a murmur (about
         the softest sound a listener picks out beside the heart sounds; our own
@@ -129,6 +132,7 @@ class FindingsConfig:
     min_beats_present: int = 5
     min_beat_confidence: float = 0.0
     tonal_threshold: float = 0.5
+    tonal_present_consistency: float = 0.85
     min_level_db_re_heart_sounds: float = -30.0
     min_present_level_db_re_heart_sounds: float = -25.0
 

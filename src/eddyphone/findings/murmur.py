@@ -593,7 +593,11 @@ def find_murmurs(spec: Spectrogram, prof: Profiles, config: FindingsConfig) -> M
             rejected.append(f"a {name} excess {level:.0f} dB below the heart sounds is too "
                             "faint to call a murmur")
             continue
-        presence = "present" if (consistency >= cfg.present_consistency
+        # a tonal excess is more often a wheeze or room speech than a murmur: it must
+        # be seen in more of the beats before it is called present
+        need = (cfg.tonal_present_consistency if "musical" in words
+                else cfg.present_consistency)
+        presence = "present" if (consistency >= need
                                  and n_beats >= cfg.min_beats_present
                                  and level >= cfg.min_present_level_db_re_heart_sounds
                                  ) else "uncertain"
