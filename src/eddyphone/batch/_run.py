@@ -63,7 +63,7 @@ def run(inputs: Any, out_dir: str | Path, *, workers: int | None, scheduler: str
             known_failure = (record["status"] == "error" and bool(record.get("cacheable"))
                              and not retry_failed)
             if done or known_failure:
-                records[key] = record
+                records[key] = _slim(record)
                 reused.add(key)
         tasks, queued = [], set()
         for item, key in zip(items, keys):
@@ -85,7 +85,7 @@ def run(inputs: Any, out_dir: str | Path, *, workers: int | None, scheduler: str
                 store.put_analysis_json(record["key"], analysis)
             if record["status"] == "ok" or record.get("cacheable"):
                 store.put(record)
-            records[record["key"]] = record
+            records[record["key"]] = _slim(record)
             bar.update(failed=record["status"] != "ok")
 
         try:
@@ -99,7 +99,8 @@ def run(inputs: Any, out_dir: str | Path, *, workers: int | None, scheduler: str
                 run_local(tasks, workers, on_result)
         finally:
             bar.close()
-        table, errors, beat_table = _consolidate(items, keys, hashes, hash_errors, records)
+        table, errors, beat_table = _consolidate(items, keys, hashes, hash_errors, records,
+                                                 store if beats else None)
         paths = _write_outputs(out_dir, fmt, table, errors, beat_table if beats else None,
                                items, keys, store if per_recording_json else None)
         counts = {"recordings": len(items), "analysed": len(tasks),
@@ -153,10 +154,16 @@ def _keys(items: Sequence[BatchItem], digest: str, version: str
     return keys, errors, hashes
 
 
+def _slim(record: dict[str, Any]) -> dict[str, Any]:
+    """What consolidation needs in memory; per-beat rows are read back from the store."""
+    return {k: v for k, v in record.items() if k != "beats"}
+
+
 def _consolidate(items: Sequence[BatchItem], keys: Sequence[str | None],
                  hashes: Sequence[str | None], hash_errors: Mapping[int, str],
-                 records: Mapping[str, Mapping[str, Any]]) -> tuple[Any, Any, Any]:
-    """Feature rows, error rows and beat rows of the current inputs, in input order."""
+                 records: Mapping[str, Mapping[str, Any]], store: Store | None
+                 ) -> tuple[Any, Any, Any]:
+    """Feature rows, error rows and (with a store) beat rows of the current inputs."""
     import pandas as pd
 
     rows, errors, beat_rows = [], [], []
@@ -176,7 +183,8 @@ def _consolidate(items: Sequence[BatchItem], keys: Sequence[str | None],
                   for k, v in item.extra.items()}
         head = {"path": item.path, **{k: features.pop(k, None) for k in _FIRST_COLUMNS[1:]}}
         rows.append({**head, **extras, "content_sha256": hashes[i], **features})
-        for beat in record.get("beats") or []:
+        stored = store.get(key) if store is not None else None
+        for beat in (stored or {}).get("beats") or []:
             beat_rows.append({"path": item.path, "patient": head["patient"],
                               "site": head["site"], **beat})
     table = pd.DataFrame(rows, columns=None if rows else list(_FIRST_COLUMNS))
