@@ -278,7 +278,6 @@ def test_damaged_record_and_leftover_temporary_are_handled(study, tmp_path):
 
 
 def test_second_batch_into_the_same_folder_is_refused(study, tmp_path):
-    pytest.importorskip("fcntl")
     out = tmp_path / "out"
     out.mkdir()
     holder = subprocess.Popen([sys.executable, "-c", (  # another process holds the lock
@@ -369,7 +368,7 @@ def test_killed_run_resumes_without_recomputing(tmp_path):
 
 
 def test_workers_exit_when_the_batch_process_is_killed(study, tmp_path):
-    psutil = pytest.importorskip("psutil")  # general-purpose process library (reference)
+    import psutil  # general-purpose process library (reference)
     out = tmp_path / "out"
     proc = subprocess.Popen([sys.executable, "-m", "eddyphone.cli", "batch", str(study),
                              "--out", str(out), "--workers", "2", "--quiet"],
@@ -413,7 +412,7 @@ def test_a_worker_crash_is_isolated_to_its_file(study):
 
 
 def test_local_cluster_equals_local_run(study, reference, tmp_path):
-    distributed = pytest.importorskip("distributed")
+    import distributed
     with distributed.LocalCluster(n_workers=2, threads_per_worker=1, processes=True,
                                   dashboard_address=None) as cluster:
         on_cluster = run_batch([study / "manifest.csv"], tmp_path / "cluster",
@@ -427,7 +426,6 @@ def test_local_cluster_equals_local_run(study, reference, tmp_path):
 
 
 def test_unreachable_scheduler_is_an_input_error(study, tmp_path):
-    pytest.importorskip("distributed")
     with pytest.raises(InputError, match="scheduler"):
         run_batch([study / "ward_a"], tmp_path / "out", scheduler="tcp://127.0.0.1:9",
                   progress=False)

@@ -12,15 +12,15 @@ import csv
 from pathlib import Path
 
 import pandas as pd
-import pytest
 
 NOTEBOOK = Path(__file__).resolve().parents[1] / "notebooks" / "batch_study.ipynb"
 PNG_SIGNATURE = b"\x89PNG\r\n\x1a\n"  # PNG specification, section 5.2
 
 
 def test_batch_notebook_executes(tmp_path, monkeypatch):
-    nbformat = pytest.importorskip("nbformat")
-    nbclient = pytest.importorskip("nbclient")
+    import nbclient
+    import nbformat
+
     monkeypatch.setenv("EDDYPHONE_NOTEBOOK_DIR", str(tmp_path))
     monkeypatch.setenv("EDDYPHONE_NOTEBOOK_PATIENTS", "3")
     monkeypatch.setenv("EDDYPHONE_NOTEBOOK_DURATION_S", "6")
