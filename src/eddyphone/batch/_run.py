@@ -37,8 +37,7 @@ def run(inputs: Any, out_dir: str | Path, *, workers: int | None, scheduler: str
         raise ParameterError(f"fmt={fmt!r} is not a table format; use 'parquet' or 'csv'")
     if workers is not None and (not isinstance(workers, int) or workers < 1):
         raise ParameterError(f"workers={workers!r} must be a whole number of 1 or more")
-    if isinstance(inputs, (str, os.PathLike)):
-        inputs = [inputs]
+    inputs = [inputs] if isinstance(inputs, (str, os.PathLike)) else list(inputs)
     config = config or Config()
     workers = workers or _cpu_count()
     out_dir = Path(out_dir)
@@ -115,7 +114,7 @@ def run(inputs: Any, out_dir: str | Path, *, workers: int | None, scheduler: str
             "outputs": {k: str(v) for k, v in paths.items()},
         }
         atomic_write(out_dir / "run.json", (json.dumps(run_info, indent=2) + "\n").encode())
-    say(f"{counts['succeeded']} analysed into {paths['features']}; {counts['failed']} failed"
+    say(f"{counts['succeeded']} recordings in {paths['features']}; {counts['failed']} failed"
         + (f" (see {paths['errors']})" if counts["failed"] else ""))
     table.attrs.update(errors=errors, beats=beat_table if beats else None, counts=counts,
                        paths=paths)
