@@ -76,7 +76,8 @@ def main() -> None:
     parser.add_argument("--seed", type=int, default=0)
     parser.add_argument("--repeat", type=int, default=1,
                         help="time each batch run this many times and keep the fastest")
-    parser.add_argument("--keep", metavar="DIR", help="work in DIR and keep it")
+    parser.add_argument("--keep", metavar="DIR",
+                        help="work in DIR and keep it (its recordings are reused next time)")
     args = parser.parse_args()
 
     from eddyphone import analyze
@@ -87,11 +88,15 @@ def main() -> None:
     folder = work / "recordings"
     specs = benchmark_specs(args.n, seed=args.seed, duration_s=args.duration)
     t0 = time.perf_counter()
-    with ProcessPoolExecutor(max_workers=os.cpu_count()) as pool:
-        files = list(pool.map(_write_case, [(s, folder, f"case_{i:04d}")
-                                            for i, s in enumerate(specs)]))
-    print(f"wrote {len(files)} recordings of {args.duration:g} s in "
-          f"{time.perf_counter() - t0:.1f} s ({os.cpu_count()} cores)")
+    files = sorted(str(p) for p in folder.glob("case_*.wav")) if folder.is_dir() else []
+    if len(files) == args.n:
+        print(f"reusing {len(files)} recordings in {folder}")
+    else:
+        with ProcessPoolExecutor(max_workers=os.cpu_count()) as pool:
+            files = list(pool.map(_write_case, [(s, folder, f"case_{i:04d}")
+                                                for i, s in enumerate(specs)]))
+        print(f"wrote {len(files)} recordings of {args.duration:g} s in "
+              f"{time.perf_counter() - t0:.1f} s ({os.cpu_count()} cores)")
 
     print(f"load average before timing: {_load()}")
     singles, singles_cpu = [], []
@@ -111,6 +116,7 @@ def main() -> None:
 
     walls: dict[int, float] = {}
     cpus: dict[int, float] = {}
+    last: dict[int, tuple[float, float]] = {}
     runs = {}
     for _ in range(args.repeat):
         for workers in sorted({1, args.workers}):
@@ -124,6 +130,7 @@ def main() -> None:
             if wall < walls.get(workers, float("inf")):
                 walls[workers], cpus[workers] = wall, cpu
             runs[workers] = (out, table)
+            last[workers] = (wall, cpu)
             counts = table.attrs["counts"]
             print(f"batch, {workers} worker(s): {wall:.1f} s wall, {cpu:.1f} s CPU "
                   f"(main + workers), {counts['succeeded']} rows, {counts['failed']} failed, "
@@ -139,14 +146,15 @@ def main() -> None:
         records = _records(out)
         task_cpu = sum(r.get("cpu_s", 0.0) for r in records)
         task_wall = sum(r.get("elapsed_s", 0.0) for r in records)
-        machinery = cpus[workers] - task_cpu
+        wall, cpu = last[workers]
+        machinery = cpu - task_cpu
         print(f"{workers} worker(s): batch machinery CPU (all but the analyses themselves) "
               f"{machinery:.2f} s = {100 * machinery / task_cpu:.1f} % of the {task_cpu:.1f} s "
               f"CPU of the analyses; analyses in flight on average "
-              f"{task_wall / walls[workers]:.2f}; cores' worth of CPU obtained "
-              f"{cpus[workers] / walls[workers]:.2f} (last run)")
+              f"{task_wall / wall:.2f}; cores' worth of CPU obtained {cpu / wall:.2f} "
+              "(last run)")
     overhead = (walls[1] - sum_single) / sum_single
-    overhead_cpu = (cpus[1] - sum_single_cpu) / sum_single_cpu
+    overhead_cpu = (last[1][1] - sum_single_cpu) / sum_single_cpu
     print(f"throughput: {len(files) / walls[args.workers]:.2f} recordings/s with "
           f"{args.workers} worker(s), {len(files) / walls[1]:.2f} with 1")
     print(f"overhead of the 1-worker batch over the sum of single analyses: wall "
