@@ -264,3 +264,18 @@ def test_patient_view_picks_loudest_site(cause, loudest):
     assert p.murmurs[0].loudest_site == loudest  # the simulator's loudest site
     d = json.loads(json.dumps(p.to_dict()))
     assert d["murmurs"][0]["loudest_site"] == loudest and loudest in p.summary
+
+
+def test_beat_measures_show_the_murmur_window():
+    murmur, site = CASES["systolic_leak"]
+    _, f = _findings(CaseSpec(murmur=murmur, site=site, snr_db=20, seed=5))
+    bm = f.beat_measures
+    assert len(bm) >= 10
+    # the holosystolic murmur raises systole, not diastole, beat by beat
+    assert np.mean([b.sys_murmur for b in bm]) >= 0.7
+    assert not any(b.dia_murmur for b in bm)
+    assert np.median([b.sys_db_re_hs - b.dia_db_re_hs for b in bm]) > 6.0
+    # its energy sits higher in frequency than the diastolic noise (centroid, Hz)
+    assert np.median([b.sys_centroid_hz for b in bm]) > np.median(
+        [b.dia_centroid_hz for b in bm])
+    assert all(0.0 <= b.sys_tonality <= 1.0 for b in bm)

@@ -81,7 +81,7 @@ def describe(x: np.ndarray, fs: float, segmentation, *, quality=None,
     extras = find_extra_sounds(x, fs, beats, cfg)
     murmurs, extras, notes = _resolve_extra_vs_murmur(search.murmurs, extras)
 
-    measures = _beat_measures(prof, search, len(beats_all))
+    measures = _beat_measures(prof, search, spec, fs)
     n = prof.n_beats
     present = [m for m in murmurs if m.presence == "present"]
     uncertain = [m for m in murmurs if m.presence == "uncertain"]
@@ -141,18 +141,37 @@ def _resolve_extra_vs_murmur(murmurs, extras):
     return tuple(keep), extras, notes
 
 
-def _beat_measures(prof, search, n_all: int) -> tuple[BeatMeasures, ...]:
+def _window_spectrum_measures(spec, a: float, b: float, fs: float) -> tuple[float, float]:
+    """Spectral centroid (Hz) and spectral flatness-based tonality (0 noise-like, 1
+    a single tone) of the mean spectrum over one window, 25-900 Hz."""
+    i0, i1 = np.searchsorted(spec.t, [a, b])
+    if i1 <= i0:
+        return float("nan"), float("nan")
+    p = spec.power[i0:i1].mean(axis=0).astype(float)
+    sel = (spec.f >= 25.0) & (spec.f <= min(900.0, 0.45 * fs))
+    p = p[sel]
+    tot = float(p.sum())
+    if tot <= 0:
+        return float("nan"), float("nan")
+    centroid = float(np.sum(spec.f[sel] * p) / tot)
+    # spectral flatness: geometric over arithmetic mean (1 white, 0 a line)
+    flat = float(np.exp(np.mean(np.log(np.maximum(p, 1e-30)))) / np.mean(p))
+    return centroid, float(np.clip(1.0 - flat, 0.0, 1.0))
+
+
+def _beat_measures(prof, search, spec, fs: float) -> tuple[BeatMeasures, ...]:
     out = []
     R = prof.ratio
     hs = np.maximum(prof.s1_power.sum(axis=1), prof.s2_power.sum(axis=1))
+    sys_flag = search.beat_flags.get("systolic")
+    dia_flag = search.beat_flags.get("diastolic")
     for i in range(prof.n_beats):
         s1 = 10 * np.log10(max(prof.s1_power[i].sum(), 1e-30))
         s2 = 10 * np.log10(max(prof.s2_power[i].sum(), 1e-30))
         sys_p = prof.power[i, 0].sum(axis=0).mean()
         dia_p = prof.power[i, 1].sum(axis=0).mean()
-        ref = prof.reference[i].sum()
-        sys_flag = search.beat_flags.get("systolic")
-        dia_flag = search.beat_flags.get("diastolic")
+        sys_c, sys_t = _window_spectrum_measures(spec, *prof.windows_s[i, 0], fs)
+        dia_c, dia_t = _window_spectrum_measures(spec, *prof.windows_s[i, 1], fs)
         out.append(BeatMeasures(
             beat=int(prof.beat_index[i]), usable=True,
             s1_db=float(s1), s2_db=float(s2),
@@ -162,9 +181,8 @@ def _beat_measures(prof, search, n_all: int) -> tuple[BeatMeasures, ...]:
                                            / R.shape[2])),
             dia_snr_db=float(10 * np.log10(max(R[i, 1].sum(axis=0).max(), 1e-30)
                                            / R.shape[2])),
-            sys_centroid_hz=float("nan"), dia_centroid_hz=float("nan"),
-            sys_tonality=float("nan"), dia_tonality=float("nan"),
+            sys_centroid_hz=sys_c, dia_centroid_hz=dia_c,
+            sys_tonality=sys_t, dia_tonality=dia_t,
             sys_murmur=bool(sys_flag[i]) if sys_flag is not None else False,
             dia_murmur=bool(dia_flag[i]) if dia_flag is not None else False))
-        del ref
     return tuple(out)

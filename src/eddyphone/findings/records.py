@@ -216,7 +216,9 @@ class BeatMeasures:
     """Per-beat window measures (see :mod:`eddyphone.findings.measures`).
 
     Levels are dB relative to the louder of this beat's S1 and S2; ``*_snr_db`` is
-    the loudest bin relative to the beat's quiet level. NaN where a window is missing.
+    the loudest bin relative to the beat's quiet level; ``s1_db``/``s2_db`` are in
+    dB of the conditioned (unit-RMS) signal; centroids of each window's mean
+    spectrum (25-900 Hz); tonality = 1 - spectral flatness. NaN where a window is missing.
     """
 
     beat: int
