@@ -255,3 +255,15 @@ def test_errors():
     with pytest.raises(InputError, match="emission model"):
         segment(np.random.default_rng(0).normal(size=40_000), 4000.0,
                 config=SegmentConfig(emission_model="/nonexistent/model.json"))
+
+
+def test_silence_and_short_input_give_empty_but_valid_results():
+    seg = segment(np.zeros(40_000), 4000.0)
+    assert seg.segments == () and seg.beats == ()
+    assert seg.skipped == ((0.0, 10.0, "no signal (flat samples)"),)
+    d = seg.to_dict()
+    assert d["rhythm"]["heart_rate_bpm"] is None and d["rhythm"]["method"] == "none"
+    json.dumps(d, allow_nan=False)  # strict JSON: no NaN anywhere
+    short = segment(np.random.default_rng(2).normal(size=8000), 4000.0)
+    assert short.skipped[0][2] == "usable stretch shorter than 2.5 s"
+    json.dumps(short.to_dict(), allow_nan=False)

@@ -84,10 +84,10 @@ class Rhythm:
     method: str
 
     def to_dict(self) -> dict:
-        """JSON-ready values (seconds rounded to 0.1 ms)."""
+        """JSON-ready values (seconds rounded to 0.1 ms; None where not measured)."""
         return {
-            "heart_rate_bpm": round(float(self.heart_rate_bpm), 2),
-            "systolic_interval_s": round(float(self.systolic_interval_s), 4),
+            "heart_rate_bpm": _finite(self.heart_rate_bpm, 2),
+            "systolic_interval_s": _finite(self.systolic_interval_s, 4),
             "rr_s": [round(float(v), 4) for v in self.rr_s],
             "rr_mean_s": None if self.rr_mean_s is None else round(float(self.rr_mean_s), 4),
             "rr_cv": None if self.rr_cv is None else round(float(self.rr_cv), 4),
@@ -95,6 +95,10 @@ class Rhythm:
             "confidence": round(float(self.confidence), 3),
             "method": self.method,
         }
+
+
+def _finite(v: float | None, digits: int) -> float | None:
+    return None if v is None or not np.isfinite(v) else round(float(v), digits)
 
 
 def envelope_autocorrelation(env: np.ndarray, max_lag: int | None = None) -> np.ndarray:

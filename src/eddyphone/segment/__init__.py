@@ -386,10 +386,16 @@ def _decode_chunk(loglik: np.ndarray, homo: np.ndarray, tilt: np.ndarray, sound:
     return _Decoded(starts, ends, states, est)
 
 
-def _usable_runs(n_frames: int, ffs: float, quality, min_run_s: float
+def _usable_runs(n_frames: int, ffs: float, quality, min_run_s: float,
+                 silent: np.ndarray | None = None
                  ) -> tuple[list[tuple[int, int]], list[tuple[float, float, str]]]:
     usable = np.ones(n_frames, dtype=bool)
     skipped: list[tuple[float, float, str]] = []
+    if silent is not None and silent.any():
+        usable &= ~silent
+        edges = np.flatnonzero(np.diff(np.concatenate([[0], silent.astype(int), [0]])))
+        for a, b in zip(edges[::2], edges[1::2], strict=True):
+            skipped.append((a / ffs, b / ffs, "no signal (flat samples)"))
     if quality is not None:
         for w in getattr(quality, "windows", ()):
             if getattr(w, "usable", True):
@@ -408,7 +414,7 @@ def _usable_runs(n_frames: int, ffs: float, quality, min_run_s: float
                             f"usable stretch shorter than {min_run_s:g} s"))
         else:
             runs.append((int(a), int(b)))
-    skipped.sort()
+    skipped = sorted((float(a), float(b), r) for a, b, r in skipped)
     merged: list[tuple[float, float, str]] = []
     for item in skipped:
         if merged and abs(merged[-1][1] - item[0]) < 1e-9 and merged[-1][2] == item[2]:
@@ -509,7 +515,11 @@ def segment(x: np.ndarray, fs: float, *, quality=None,
     env = _envelopes_blockwise(x, fs, cfg.feature_fs)
     ffs = env.feature_fs
     feat = frame_features(env)
-    runs, skipped = _usable_runs(env.n_frames, ffs, quality, cfg.min_run_s)
+    # Frames whose samples do not move at all (digital silence, dropouts) hold nothing.
+    hop = int(round(fs / cfg.feature_fs))
+    n = env.n_frames * hop
+    silent = np.ptp(x[:n].reshape(env.n_frames, hop), axis=1) == 0.0
+    runs, skipped = _usable_runs(env.n_frames, ffs, quality, cfg.min_run_s, silent)
 
     segments: list[Segment] = []
     scores: list[float] = []
@@ -532,6 +542,9 @@ def segment(x: np.ndarray, fs: float, *, quality=None,
             float(np.median([e.confidence for e in estimates])))
     else:
         est = HeartRateEstimate(float("nan"), float("nan"), 0.0)
+    if not segments:
+        rhythm = Rhythm(float("nan"), float("nan"), (), None, None, False, 0.0, "none")
+        return Segmentation((), (), rhythm, tuple(skipped), float(ffs), METHOD)
     rr = np.array([bt.rr_s for bt in beats if bt.rr_s is not None])
     systoles = np.array([bt.systole_ms / 1000.0 for bt in beats])
     mean_conf = float(np.mean([bt.confidence for bt in beats])) if beats else 0.0
