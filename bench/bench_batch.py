@@ -14,7 +14,8 @@ Writes ``--n`` simulated recordings of ``--duration`` seconds
   the time a re-run takes when everything is already done.
 
 Wall-time ratios only mean something on an otherwise idle machine; the load
-average is printed before and after the timed part.
+average is printed before and after the timed part, with a control: the speed-up a
+pure CPU loop gets on the same number of processes at that moment.
 
 Targets (tracker issue 9): speed-up >= 1.8 with 2 workers; overhead < 10 %.
 
@@ -63,6 +64,27 @@ def _cpu_now() -> float:
     return own.ru_utime + own.ru_stime + kids.ru_utime + kids.ru_stime
 
 
+def _burn(n: int) -> float:
+    x = 0
+    for i in range(n):
+        x += i * i
+    return float(x)
+
+
+def _ceiling(workers: int, n: int = 10_000_000) -> float:
+    """Speed-up a pure CPU loop gets on ``workers`` processes right now (the machine's
+    own limit: below ``workers`` when other programs hold the cores)."""
+    start = time.perf_counter()
+    _burn(n)
+    one = time.perf_counter() - start
+    with ProcessPoolExecutor(max_workers=workers) as pool:
+        list(pool.map(_burn, [1000] * workers))  # start the processes first
+        start = time.perf_counter()
+        list(pool.map(_burn, [n] * workers))
+        many = time.perf_counter() - start
+    return workers * one / many
+
+
 def _load() -> str:
     one, five, _ = os.getloadavg()
     return f"{one:.1f} (1 min), {five:.1f} (5 min) on {os.cpu_count()} cores"
@@ -99,6 +121,7 @@ def main() -> None:
               f"{time.perf_counter() - t0:.1f} s ({os.cpu_count()} cores)")
 
     print(f"load average before timing: {_load()}")
+    ceilings = [_ceiling(args.workers)] if args.workers > 1 else []
     singles, singles_cpu = [], []
     failed_single = 0
     for path in files:
@@ -136,6 +159,11 @@ def main() -> None:
                   f"(main + workers), {counts['succeeded']} rows, {counts['failed']} failed, "
                   f"{len(files) / wall:.2f} recordings/s")
     print(f"load average after timing: {_load()}")
+    if args.workers > 1:
+        ceilings.append(_ceiling(args.workers))
+        print(f"control: a pure CPU loop on {args.workers} processes ran "
+              f"{ceilings[0]:.2f}x (before) and {ceilings[1]:.2f}x (after) as fast as on one: "
+              "the most any program could gain on this machine at the time")
     if failed_single or any(t.attrs["counts"]["failed"] for _, t in runs.values()):
         print("WARNING: some analyses failed; the timings below do not describe full "
               "analyses")
