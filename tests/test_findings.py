@@ -279,3 +279,15 @@ def test_beat_measures_show_the_murmur_window():
     assert np.median([b.sys_centroid_hz for b in bm]) > np.median(
         [b.dia_centroid_hz for b in bm])
     assert all(0.0 <= b.sys_tonality <= 1.0 for b in bm)
+
+
+def test_harsh_ejection_blowing_leak():
+    # common practice: a narrowed outflow valve gives a harsh murmur, a systolic leak a
+    # blowing one (the simulator roughens ejection murmurs' envelopes, not leaks')
+    words = {}
+    for cause in ("narrowed_outflow", "systolic_leak"):
+        murmur, site = CASES[cause]
+        _, f = _findings(CaseSpec(murmur=murmur, site=site, snr_db=20, device="diaphragm",
+                                  seed=12))
+        words[cause] = f.main().quality_words
+    assert words == {"narrowed_outflow": ("harsh",), "systolic_leak": ("blowing",)}

@@ -204,8 +204,11 @@ def summarise_patient(analyses: Iterable | Mapping, *, patient_id: str | None = 
         text = ("No murmur called with confidence; possible murmur or unreadable "
                 f"recording at {', '.join(_area(s) for s in unc)}.")
     if extras:
+        words = {"S3": "S3", "S4": "S4", "split_S2": "split S2",
+                 "ejection_click": "ejection click", "opening_snap": "opening snap"}
         text += " Extra sounds: " + "; ".join(
-            f"{k} at {', '.join(_area(s) for s in v)}" for k, v in extras.items()) + "."
+            f"{words.get(k, k)} at {', '.join(_area(s) for s in v)}"
+            for k, v in extras.items()) + "."
     return PatientSummary(patient_id=patient_id, sites=sites, presence=presence,
                           murmurs=tuple(murmurs),
                           extra_sounds={k: tuple(v) for k, v in extras.items()},
