@@ -31,6 +31,9 @@ def test_batch_notebook_executes(tmp_path, monkeypatch):
               if o.get("output_type") == "error"]
     assert not errors
 
+    shown = [o for c in nb.cells if c.cell_type == "code" for o in c.get("outputs", [])
+             if "image/png" in o.get("data", {})]
+    assert len(shown) == 3  # the figures appear in the notebook itself
     figures = sorted((tmp_path / "figures").glob("*.png"))
     assert [p.name for p in figures] == ["heart_rate_vs_systolic_interval.png",
                                          "murmur_by_site.png", "quality_and_beats.png"]
