@@ -153,7 +153,8 @@ _PRELOAD = ("eddyphone.io", "eddyphone.pipeline", "eddyphone.segment", "eddyphon
 
 
 def _start_method():
-    """``fork`` from a single-threaded process with the stages preloaded, else ``spawn``.
+    """On Linux, ``fork`` from a single-threaded process with the stages preloaded;
+    ``spawn`` otherwise.
 
     Forking is only safe while no other thread runs (a lock held by another thread
     would stay locked in the child); a notebook kernel or a process hosting a Dask
@@ -164,7 +165,8 @@ def _start_method():
     import multiprocessing
     import threading
 
-    if "fork" not in multiprocessing.get_all_start_methods() or threading.active_count() > 1:
+    if not sys.platform.startswith("linux") or threading.active_count() > 1:
+        # macOS system libraries are not fork-safe; Windows has no fork
         return multiprocessing.get_context("spawn")
     for name in _PRELOAD:
         with contextlib.suppress(ImportError):  # a stage not built: the pipeline copes
