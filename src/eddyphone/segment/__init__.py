@@ -306,6 +306,27 @@ def _missed_fraction(starts: np.ndarray, ends: np.ndarray, states: np.ndarray,
     return hits / gaps if gaps else 0.0
 
 
+def _too_even(starts: np.ndarray, states: np.ndarray, ffs: float) -> bool:
+    """True when "S1" and "S2" are evenly spaced although the rate says they should not be.
+
+    At a given rate the Weissler regression fixes how unequal systole and diastole
+    are (at 65 bpm diastole is about 0.2 s longer). Sounds spaced evenly where the
+    regression expects a clear difference are more likely one sound per beat at
+    twice the rate (a soft S2 at a fast rate) than S1 and S2 at this rate.
+    """
+    from eddyphone.physiology import systolic_interval_s
+
+    sys, dia = _intervals(starts, states, ffs)
+    if len(sys) < 3 or len(dia) < 3:
+        return False
+    sys_m, dia_m = float(np.median(sys)), float(np.median(dia))
+    rr = sys_m + dia_m
+    hr = 60.0 / rr
+    expected = abs(rr - 2.0 * systolic_interval_s(float(np.clip(hr, 20.0, 250.0)))[0]) / rr
+    measured = abs(dia_m - sys_m) / rr
+    return expected > 0.08 and measured < 0.25 * expected
+
+
 def _hypotheses(cands: list[HeartRateEstimate], sound: np.ndarray, ffs: float,
                 cfg: SegmentConfig) -> list[tuple[HeartRateEstimate, float]]:
     """(estimate, RR spread) pairs to try: each candidate regular, the first also irregular."""
@@ -359,7 +380,7 @@ def _decode_chunk(loglik: np.ndarray, homo: np.ndarray, tilt: np.ndarray, sound:
     cands = period_candidates(homo, ffs, min_bpm=cfg.min_bpm, max_bpm=cfg.max_bpm)
     hyps = _hypotheses(cands, sound, ffs, cfg)
     n_probe = min(len(loglik), int(_PROBE_S * ffs))
-    best_key, est, spread = None, cands[0], 0.0
+    best_key, est, spread, best_path = None, cands[0], 0.0, None
     for c, sp in hyps:
         # The model's own score decides, except that a rate leaving loud sounds
         # inside its silences (half the true rate) loses to one that does not.
@@ -367,7 +388,13 @@ def _decode_chunk(loglik: np.ndarray, homo: np.ndarray, tilt: np.ndarray, sound:
         st, en, k, score = viterbi_cyclic(loglik[:n_probe], ld, ls)
         key = (-round(_missed_fraction(st, en, k, sound[:n_probe]) / 0.2), score)
         if best_key is None or key > best_key:
-            best_key, est, spread = key, c, sp
+            best_key, est, spread, best_path = key, c, sp, (st, k)
+    double = 2.0 * est.heart_rate_bpm
+    if (best_path is not None and double <= 1.05 * cfg.max_bpm
+            and _too_even(best_path[0], best_path[1], ffs)):
+        from eddyphone.physiology import systolic_interval_s
+
+        est = HeartRateEstimate(double, systolic_interval_s(double)[0], est.confidence)
     ld, ls = _tables(est.heart_rate_bpm, est.systolic_interval_s, spread, ffs, cfg)
     starts, ends, states, _ = viterbi_cyclic(loglik, ld, ls)
     # Second pass: durations from the first pass where it disagrees with the
