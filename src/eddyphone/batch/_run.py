@@ -71,7 +71,8 @@ def run(inputs: Any, out_dir: str | Path, *, workers: int | None, scheduler: str
             queued.add(key)
             tasks.append({"key": key, "path": item.path, "load": dict(item.load),
                           "context": dict(item.context), "extra": dict(item.extra),
-                          "config": config, "want_json": per_recording_json})
+                          "config": config, "want_json": per_recording_json,
+                          "code_digest": code})
         where = f"the cluster at {scheduler}" if scheduler else \
             f"{min(workers, max(len(tasks), 1))} worker process(es)"
         say(f"{len(items)} recordings: {len(reused)} already done, "

@@ -15,6 +15,7 @@ Progress(total, stream)
 
 from __future__ import annotations
 
+import functools
 import os
 import sys
 import time
@@ -36,8 +37,8 @@ def analyse_task(task: Mapping[str, Any]) -> dict[str, Any]:
     ----------
     task : mapping
         ``key``, ``path``, ``load`` (patient/site/posture), ``context``,
-        ``extra`` (metadata), ``config`` (a :class:`~eddyphone.config.Config`)
-        and ``want_json``.
+        ``extra`` (metadata), ``config`` (a :class:`~eddyphone.config.Config`),
+        ``want_json`` and ``code_digest`` (the batch's; None: this process's own).
 
     Returns
     -------
@@ -57,13 +58,12 @@ def analyse_task(task: Mapping[str, Any]) -> dict[str, Any]:
                       cacheable=isinstance(exc, EddyphoneError))
     else:
         from eddyphone.batch.features import beat_rows, recording_row
-        from eddyphone.batch.store import code_digest
-
+        code = task.get("code_digest") or _worker_code_digest()
         features = {}
         for name, value in recording_row(data).items():
             features[name] = value
             if name == "eddyphone_version":
-                features["code_digest"] = code_digest()
+                features["code_digest"] = code
         record.update(status="ok", features=features, beats=beat_rows(data))
         if task.get("want_json"):
             record["analysis"] = data
@@ -72,6 +72,14 @@ def analyse_task(task: Mapping[str, Any]) -> dict[str, Any]:
     record["worker"] = f"{_hostname()}:{os.getpid()}"
     record["peak_rss_mb"] = _peak_rss_mb()
     return record
+
+
+@functools.lru_cache(maxsize=1)
+def _worker_code_digest() -> str:
+    """The code digest of a cluster worker's own installation, read once per process."""
+    from eddyphone.batch.store import code_digest
+
+    return code_digest()
 
 
 def _analyse(task: Mapping[str, Any]) -> dict[str, Any]:
@@ -247,7 +255,9 @@ def run_cluster(tasks: Sequence[Mapping[str, Any]], scheduler: str,
                          "check the address (tcp://host:port) and that the scheduler runs"
                          ) from None
     try:
-        futures = client.map(analyse_task, list(tasks), pure=False,
+        # each worker reports the code digest of its own installation
+        tasks = [{**t, "code_digest": None} for t in tasks]
+        futures = client.map(analyse_task, tasks, pure=False,
                              key=[f"eddyphone-{t['key']}" for t in tasks])
         by_key = {f.key: t for f, t in zip(futures, tasks)}
         for future in as_completed(futures, loop=client.loop):

@@ -19,7 +19,6 @@ write_errors(rows, path)
 
 from __future__ import annotations
 
-import functools
 import hashlib
 import json
 import os
@@ -46,12 +45,11 @@ def record_key(content_hash: str, config_digest: str, version: str,
     return hashlib.sha256(text.encode()).hexdigest()[:32]
 
 
-@functools.lru_cache(maxsize=1)
 def code_digest() -> str:
     """Short SHA-256 of the installed eddyphone package (its modules and data files).
 
-    Two installations with the same digest compute the same results; it is read
-    once per process (the files do not change under a running analysis).
+    Two installations with the same digest compute the same results. Read from
+    disk at every call (a few milliseconds), so an edited installation is seen.
     """
     import eddyphone
 
