@@ -22,6 +22,10 @@ from eddyphone.condition import bandpass, despike, detect_hum
 class QualityConfig:
     """Quality settings.
 
+    A window's score is ``contrast * (0.4 + 0.6 * periodicity) * penalties``, each
+    sub-score ramped to [0, 1] between its poor and good values; penalties for
+    clipping, spikes and hum. The recording's score is the mean over windows.
+
     Attributes
     ----------
     window_s : float
@@ -186,12 +190,15 @@ def _score(m: QualityMeasures, config: QualityConfig) -> tuple[float, tuple[str,
     s_period = _ramp(m.periodicity, config.poor_periodicity, config.good_periodicity)
     penalty = (1 - 0.7 * min(m.clipping_fraction / 0.02, 1.0)) \
         * (1 - 0.5 * min(m.spikes_per_min / 60.0, 1.0)) * (0.9 if m.hum_hz else 1.0)
-    score = float(np.sqrt(s_contrast * s_period) * penalty)
+    # Contrast is necessary; periodicity adds confidence but an irregular rhythm
+    # (atrial fibrillation) is not poor quality, so it alone can only lower the score
+    # to 0.4 of what contrast allows.
+    score = float(s_contrast * (0.4 + 0.6 * s_period) * penalty)
     reasons = []
     if s_contrast < 0.5:
         reasons.append(f"low signal-to-noise (heart sounds {m.contrast_db:.1f} dB above the floor)")
     if s_period < 0.5:
-        reasons.append(f"weak beat-to-beat periodicity ({m.periodicity:.2f})")
+        reasons.append(f"weak or irregular beat-to-beat periodicity ({m.periodicity:.2f})")
     if m.clipping_fraction > 0.001:
         reasons.append(f"clipping ({100 * m.clipping_fraction:.2f} % of samples)")
     if m.spikes_per_min > 6:
@@ -233,13 +240,17 @@ def assess(x: np.ndarray, fs: float, config: QualityConfig | None = None) -> Qua
     hum_hz = detect_hum(centred, fs)
     heart = bandpass(centred, fs, config.band_hz)
     overall = _measure(raw, heart, fs, hum_hz)
-    score, reasons = _score(overall, config)
+    _, reasons = _score(overall, config)
     windows = []
     for a, b in _window_bounds(len(raw), fs, config.window_s):
         m = _measure(raw[a:b], heart[a:b], fs, hum_hz)
         w_score, w_reasons = _score(m, config)
         windows.append(QualityWindow(a / fs, b / fs, w_score, w_score >= config.usable_threshold,
                                      w_reasons, m))
+    # The whole-recording score is the duration-weighted mean of the window scores, so a
+    # rhythm that is regular within windows but varies across them is not penalised.
+    score = float(np.average([w.score for w in windows],
+                             weights=[w.end_s - w.start_s for w in windows]))
     return Quality(score, score >= config.usable_threshold, reasons, _warnings(raw),
                    overall, tuple(windows), config.usable_threshold)
 
