@@ -138,6 +138,7 @@ def test_new_contract_fields_flow_into_the_row():
             "quality": {"score": 0.8, "measures": {"contrast_db": 12.0, "new_measure": 1.0}},
             "findings": [{"id": "m1", "kind": "murmur", "phase": "systolic",
                           "spectrum": {"100-200_hz": 0.5}, "profile": [0.1, 1.0],
+                          "grade_range": [2, 3],
                           "new_murmur_field": "x"},
                          {"id": "x1", "kind": "extra_sound", "sound": "S3",
                           "confidence": 0.7, "timing_ms": 140.0},
@@ -156,6 +157,7 @@ def test_new_contract_fields_flow_into_the_row():
     assert row["main_murmur_new_murmur_field"] == "x"
     assert row["main_murmur_spectrum_100-200_hz"] == 0.5
     assert json.loads(row["main_murmur_profile"]) == [0.1, 1.0]
+    assert (row["main_murmur_grade_range_lo"], row["main_murmur_grade_range_hi"]) == (2, 3)
     assert row["has_S3"] is True and row["S3_timing_ms"] == 140.0
     assert row["has_S4"] is False and row["S4_timing_ms"] is None
     assert row["has_pericardial_knock"] is True

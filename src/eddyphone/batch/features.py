@@ -17,7 +17,8 @@ columns                from
 ``segments_*``         count, seconds per label, fraction of the recording
                        segmented; ``skipped_n``, ``skipped_s``
 ``main_murmur_*``      every field of the first murmur finding (nested
-                       mappings flattened, numeric lists as JSON text)
+                       mappings flattened, ``grade_range`` as ``_lo``/``_hi``,
+                       other numeric lists as JSON text)
 ``has_<sound>``        extra sound found, with ``<sound>_timing_ms`` and
                        ``<sound>_confidence``
 ``mechanism_*``        score of each overall candidate; label and score of
@@ -103,14 +104,18 @@ def beat_rows(data: Mapping[str, Any]) -> list[dict[str, Any]]:
 def flatten(mapping: Mapping[str, Any], prefix: str) -> dict[str, Any]:
     """Nested mappings to ``prefix_key_subkey`` scalars.
 
-    Lists of strings are joined with ``"; "``; other lists become JSON text;
-    non-finite floats become ``None``.
+    Number pairs named ``*_range`` become ``*_range_lo`` and ``*_range_hi``; lists
+    of strings are joined with ``"; "``; other lists become JSON text; non-finite
+    floats become ``None``.
     """
     out: dict[str, Any] = {}
     for key, value in mapping.items():
         name = f"{prefix}_{key}" if prefix else str(key)
         if isinstance(value, Mapping):
             out.update(flatten(value, name))
+        elif (str(key).endswith("_range") and isinstance(value, (list, tuple))
+              and len(value) == 2 and all(isinstance(v, (int, float)) for v in value)):
+            out[f"{name}_lo"], out[f"{name}_hi"] = scalar(value[0]), scalar(value[1])
         else:
             out[name] = scalar(value)
     return out
