@@ -542,10 +542,16 @@ def segment(x: np.ndarray, fs: float, *, quality=None,
     env = _envelopes_blockwise(x, fs, cfg.feature_fs)
     ffs = env.feature_fs
     feat = frame_features(env)
-    # Frames whose samples do not move at all (digital silence, dropouts) hold nothing.
+    # Stretches of 1 s or more whose samples do not move at all (digital silence,
+    # dropouts) hold nothing; shorter ones (e.g. despiked windows) are bridged.
     hop = int(round(fs / cfg.feature_fs))
     n = env.n_frames * hop
     silent = np.ptp(x[:n].reshape(env.n_frames, hop), axis=1) == 0.0
+    if silent.any():
+        edges = np.flatnonzero(np.diff(np.concatenate([[0], silent.astype(int), [0]])))
+        for a, b in zip(edges[::2], edges[1::2], strict=True):
+            if b - a < ffs:
+                silent[a:b] = False
     runs, skipped = _usable_runs(env.n_frames, ffs, quality, cfg.min_run_s, silent)
 
     segments: list[Segment] = []
