@@ -5,18 +5,23 @@ Method (our own arrangement of standard measures):
 
 1. Per beat, band powers across the time-normalised systolic and diastolic windows
    are divided by the beat's own quiet level (:mod:`eddyphone.findings.measures`).
-2. These ratios are averaged over beats with a trimmed mean (friction bursts and
-   single noisy beats drop out) and re-referenced to the quiet parts of the average,
-   giving an excess in dB per window, band and bin.
-3. A murmur is a run of bins, in one window, whose excess reaches
-   ``FindingsConfig.excess_db`` in at least one band and that is sustained (at least
-   ``min_active_fraction`` of the window and at least 50 ms within 6 dB of its
-   peak), which tells it from transients such as S3, S4, clicks and sound tails.
-4. Each beat is then checked for the murmur (its own excess over the same bins):
-   the fraction that show it is the consistency; presence follows from it.
-5. Timing and shape come from the excess profile, pitch and quality words from the
-   excess spectrum (murmur frames minus quiet frames), the grade from the peak
-   excess power relative to the S1/S2 power of the same beats.
+2. These ratios are averaged over beats with an interquartile mean (friction
+   bursts, crackles and single noisy beats drop out) and re-referenced to the quiet
+   parts of the average, giving an excess in dB per window, band and bin.
+3. A bin is active when its excess reaches ``excess_db``, or ``min_excess_db`` with
+   ``z_active`` standard errors across beats. A murmur is the strongest run of
+   active bins in a window that lasts ``min_murmur_s`` and stays within 6 dB of its
+   peak for ``min_sustained_s`` (``min_low_murmur_s`` when confined below 150 Hz),
+   all shortened in short windows; this tells it from S3, S4, clicks and tails.
+4. Each beat is checked for the murmur against a null built from the same number
+   of murmur-free bins in the other window of the same beats; the fraction of
+   beats beating 90 % of that null is the consistency (a faint but steady murmur is
+   judged on groups of four beats); presence follows from consistency, the number
+   of beats and the level re S1/S2.
+5. Timing and shape come from the excess profile (edges at -20 dB of its peak,
+   mapped back to the whole window), pitch and quality words from the excess
+   spectrum (murmur frames minus quiet frames) and the envelope roughness, the
+   grade from the peak excess power relative to the louder of S1 and S2.
 
 Public functions
 ----------------
@@ -24,6 +29,7 @@ find_murmurs(spec, profiles, config) -> MurmurSearch
 timing_word(onset_fraction, end_fraction) -> str
 shape_word(profile_db) -> str
 pitch_word(centroid_hz) -> str
+relative_pitch_word(centroid_hz, heart_sound_centroid_hz) -> str
 quality_words(...) -> tuple of str
 """
 
@@ -568,7 +574,7 @@ def find_murmurs(spec: Spectrogram, prof: Profiles, config: FindingsConfig) -> M
         peak_frac = float((c.k0 + int(np.argmax(seg)) + 0.5) / n_bins)
         if length > 0:
             peak_frac = (g + peak_frac * length) / (length + 2.0 * g)
-        # level: peak excess power per beat (all bands) re the mean S1/S2 power
+        # level: peak excess power per beat (all bands) re the louder of S1 and S2
         peak_pow = excess_beats[use][:, c.window, c.k0:c.k1].max(axis=1)
         level = 10.0 * np.log10(max(float(np.median(peak_pow)), 1e-30)
                                 / max(float(np.median(hs_power[use])), 1e-30))
