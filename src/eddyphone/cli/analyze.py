@@ -184,6 +184,6 @@ def _patient_views(analyses, out_dir, args) -> None:
     for a in analyses:
         groups.setdefault(a.recording.patient or "unknown", []).append(a)
     for patient, group in groups.items():
-        summary = summarise_patient(group)
+        summary = summarise_patient(group, patient_id=patient)
         paths = write_patient_report(summary, group, out_dir, overwrite=args.overwrite)
         print(f"patient {patient}: {len(group)} recordings; report {paths.get('html')}")
