@@ -116,3 +116,21 @@ def test_a_recording_without_heart_sounds_gives_nulls_not_nan(tmp_path):
     assert data["summary"]["heart_rate_bpm"] is None
     assert data["summary"]["murmur"] == "uncertain"
     assert data["quality"]["score"] < 0.2 and data["skipped"]
+
+
+def test_patient_view_writes_a_patient_summary(tmp_path):
+    from conftest import SAMPLE_AUDIO
+
+    folder = tmp_path / "p"
+    folder.mkdir()
+    for name, site in (("03_older_adult_outflow", "aortic"), ("05_systolic_leak", "mitral")):
+        (folder / f"{name}.wav").write_bytes((SAMPLE_AUDIO / f"{name}.wav").read_bytes())
+        (folder / f"{name}.meta.json").write_text(json.dumps({"site": site}))
+    out = tmp_path / "out"
+    result = _cli("analyze", "--patient", "Q7", str(folder), "--out", str(out), "--no-report")
+    assert result.returncode == 0, result.stderr
+    data = json.loads((out / "patient-Q7.json").read_text())
+    assert data["patient"]["patient_id"] == "Q7"
+    assert sorted(data["patient"]["sites"]) == ["aortic", "mitral"]
+    assert data["mechanisms"] and any("not a diagnosis" in c for c in data["cautions"])
+    assert not (out / "patient-Q7.report.html").exists()  # --no-report is honoured

@@ -177,13 +177,33 @@ def _one_line(analysis) -> str:
 
 
 def _patient_views(analyses, out_dir, args) -> None:
+    """Per patient: ``patient-<id>.json`` (summary and mechanisms) and, unless
+    ``--no-report``, the patient report with the sites side by side."""
+    import json
+
+    from eddyphone.explain import explain_patient
+    from eddyphone.export import atomic_write_text, check_free
     from eddyphone.findings import summarise_patient
-    from eddyphone.report import write_patient_report
+    from eddyphone.pipeline import SCHEMA_VERSION
 
     groups: dict[str, list] = {}
     for a in analyses:
         groups.setdefault(a.recording.patient or "unknown", []).append(a)
     for patient, group in groups.items():
         summary = summarise_patient(group, patient_id=patient)
-        paths = write_patient_report(summary, group, out_dir, overwrite=args.overwrite)
-        print(f"patient {patient}: {len(group)} recordings; report {paths.get('html')}")
+        explanation = explain_patient(group, context=group[0].context)
+        path = out_dir / f"patient-{patient}.json"
+        check_free([path], source=f"patient {patient}", overwrite=args.overwrite)
+        data = {"schema_version": SCHEMA_VERSION, "patient": summary.to_dict(),
+                "recordings": [a.recording.source for a in group],
+                "mechanisms": explanation.to_list(),
+                "assumptions": list(explanation.assumptions),
+                "cautions": list(group[0].to_dict()["cautions"])}
+        atomic_write_text(path, json.dumps(data, indent=2, allow_nan=False) + "\n")
+        line = f"patient {patient}: {len(group)} recordings; summary {path}"
+        if not args.no_report:
+            from eddyphone.report import write_patient_report
+
+            paths = write_patient_report(summary, group, out_dir, overwrite=args.overwrite)
+            line += f"; report {paths.get('html')}"
+        print(line)
