@@ -26,7 +26,8 @@ from typing import Any, TextIO
 #: every core, and nested threads would only compete for them.
 _THREAD_VARIABLES = ("OMP_NUM_THREADS", "OPENBLAS_NUM_THREADS", "MKL_NUM_THREADS",
                      "NUMEXPR_NUM_THREADS", "VECLIB_MAXIMUM_THREADS")
-#: A task in flight when the pool broke this many times is declared failed.
+#: Pool passes (each ended early by a worker that died) before the remaining
+#: tasks run one at a time, each in a process of its own.
 _MAX_POOL_BREAKS = 2
 
 
