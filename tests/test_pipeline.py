@@ -134,3 +134,15 @@ def test_patient_view_writes_a_patient_summary(tmp_path):
     assert sorted(data["patient"]["sites"]) == ["aortic", "mitral"]
     assert data["mechanisms"] and any("not a diagnosis" in c for c in data["cautions"])
     assert not (out / "patient-Q7.report.html").exists()  # --no-report is honoured
+
+
+def test_manifest_columns_become_site_context_and_metadata(wav, tmp_path):
+    manifest = tmp_path / "study.csv"
+    manifest.write_text(f"path,patient,site,hematocrit,arm\n{wav.name},K2,aortic,0.3,b\n")
+    out = tmp_path / "out"
+    result = _cli("analyze", "--manifest", str(manifest), "--out", str(out), "--no-report")
+    assert result.returncode == 0, result.stderr
+    data = json.loads((out / "bench07.json").read_text())
+    assert data["context"] == {"hematocrit": 0.3, "site": "aortic"}
+    assert data["recording"]["patient"] == "K2"
+    assert data["recording"]["metadata"] == {"arm": "b"}

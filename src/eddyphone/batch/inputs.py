@@ -5,7 +5,7 @@ Public API
 collect(inputs) -> list[BatchItem]
 read_manifest(path) -> list[BatchItem]
 content_hash(path) -> str
-AUDIO_SUFFIXES, MANIFEST_LOAD_COLUMNS, MANIFEST_CONTEXT_COLUMNS
+AUDIO_SUFFIXES
 """
 
 from __future__ import annotations
@@ -23,11 +23,6 @@ AUDIO_SUFFIXES = (".wav", ".wave", ".flac", ".ogg", ".oga", ".mp3", ".aif", ".ai
                   ".m4a", ".mp4", ".aac", ".opus", ".webm", ".3gp", ".amr", ".hea")
 #: Signal files that can sit beside a WFDB header of the same stem.
 _WFDB_SIGNAL_SUFFIXES = (".dat", ".wav", ".wave", ".flac")
-#: Manifest columns passed to :func:`eddyphone.io.load`.
-MANIFEST_LOAD_COLUMNS = ("patient", "site", "posture")
-#: Manifest columns that become :class:`~eddyphone.context.PatientContext` fields.
-MANIFEST_CONTEXT_COLUMNS = ("hematocrit", "heart_rate_bpm", "cardiac_output_l_min",
-                            "stroke_volume_ml", "diameter_mm", "age_years", "states")
 _SIDECAR_SUFFIX = ".meta.json"
 _GLOB_CHARS = set("*?[")
 _HASH_BLOCK = 1 << 20
@@ -141,27 +136,9 @@ def read_manifest(path: str | Path) -> list[BatchItem]:
         No ``path`` column, no rows, or a non-numeric context value.
     """
     from eddyphone.io.manifest import read_manifest as read_rows
+    from eddyphone.io.manifest import split_row
 
-    source = str(path)
-    items = []
-    for row in read_rows(path):
-        file = row.pop("path")
-        load = {k: row.pop(k) for k in MANIFEST_LOAD_COLUMNS if k in row}
-        context: dict[str, object] = {}
-        for k in MANIFEST_CONTEXT_COLUMNS:
-            if k not in row:
-                continue
-            value = row.pop(k)
-            if k == "states":
-                context[k] = tuple(s.strip() for s in value.split(";") if s.strip())
-                continue
-            try:
-                context[k] = float(value)
-            except ValueError:
-                raise InputError(f"{source} row for {file}", f"{k}={value!r} is not a number",
-                                 f"write {k} as a plain number, e.g. 0.42") from None
-        items.append(BatchItem(file, load, context, row))
-    return items
+    return [BatchItem(*split_row(row, str(path))) for row in read_rows(path)]
 
 
 def content_hash(path: str | Path) -> str:

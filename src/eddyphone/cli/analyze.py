@@ -59,9 +59,9 @@ def run(args: argparse.Namespace) -> int:
     config = _config(args.config)
     out_dir = Path(args.out) if args.out else None
     analyses, failures, stems = [], 0, {}
-    for path, meta in jobs:
+    for path, load, manifest_context in jobs:
         try:
-            analysis = _analyse_one(path, meta, args, config)
+            analysis = _analyse_one(path, load, manifest_context, args, config)
             if out_dir is not None:
                 from eddyphone.export import write_analysis
 
@@ -93,29 +93,30 @@ def run(args: argparse.Namespace) -> int:
     return 1 if failures else 0
 
 
-def _jobs(args: argparse.Namespace) -> list[tuple[str, dict]]:
-    """Expand folders, read the manifest, attach per-file metadata."""
+def _jobs(args: argparse.Namespace) -> list[tuple[str, dict, dict]]:
+    """Expand folders and read the manifest: ``(path, load options, manifest context)``."""
     from pathlib import Path
 
-    jobs: list[tuple[str, dict]] = []
+    jobs: list[tuple[str, dict, dict]] = []
     if args.manifest:
-        from eddyphone.io.manifest import read_manifest
+        from eddyphone.io.manifest import read_manifest, split_row
 
         for row in read_manifest(args.manifest):
-            jobs.append((row.pop("path"), row))
+            path, load, context, extra = split_row(row, args.manifest)
+            jobs.append((path, {**load, "metadata": extra}, context))
     for item in args.recordings:
         path = Path(item)
         if path.is_dir():
             files = sorted(p for p in path.iterdir()
                            if p.suffix.lower() in AUDIO_SUFFIXES and not p.name.startswith("."))
-            jobs.extend((str(p), {}) for p in files)
+            jobs.extend((str(p), {}, {}) for p in files)
         else:
-            jobs.append((item, {}))
-    for _, meta in jobs:
+            jobs.append((item, {}, {}))
+    for _, load, _ in jobs:
         if args.patient:
-            meta.setdefault("patient", args.patient)
+            load.setdefault("patient", args.patient)
         if args.posture:
-            meta.setdefault("posture", args.posture)
+            load.setdefault("posture", args.posture)
     return jobs
 
 
@@ -137,19 +138,20 @@ def _config(path: str | None):
                          ) from None
 
 
-def _analyse_one(path: str, meta: dict, args: argparse.Namespace, config):
+def _analyse_one(path: str, load_options: dict, manifest_context: dict,
+                 args: argparse.Namespace, config):
     from eddyphone.context import PatientContext
     from eddyphone.errors import InputError, ParameterError
     from eddyphone.io import load
     from eddyphone.pipeline import analyze
 
-    site = meta.pop("site", None) or args.site
-    rec = load(path, channel=args.channel, site=site, posture=meta.pop("posture", None),
-               patient=meta.pop("patient", None), metadata=meta or None)
+    options = {**load_options, "site": load_options.get("site") or args.site}
+    rec = load(path, channel=args.channel, **options)
+    given = {k: v for k, v in context_values(args).items() if v not in (None, ())}
     try:
-        context = PatientContext(**{**context_values(args), "site": _known_site(rec.site)})
+        context = PatientContext(**{**given, **manifest_context, "site": _known_site(rec.site)})
     except ParameterError as exc:
-        raise InputError(path, str(exc), "correct the option and run again") from None
+        raise InputError(path, str(exc), "correct the option or manifest value") from None
     return analyze(rec, context=context, config=config)
 
 

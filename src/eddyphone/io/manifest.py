@@ -1,4 +1,10 @@
-"""Manifest CSV: one recording per row with ``path`` and optional patient/site/posture."""
+"""Manifest CSV: one recording per row with ``path`` and optional patient/site/posture.
+
+Public functions
+----------------
+read_manifest(path)     -> rows as dicts (paths resolved, empty cells dropped)
+split_row(row, source)  -> (path, load options, patient context, other columns)
+"""
 
 from __future__ import annotations
 
@@ -36,3 +42,38 @@ def read_manifest(path: str | Path) -> list[dict[str, str]]:
     if not rows:
         raise InputError(str(path), "lists no recordings", "add one row per recording")
     return rows
+
+
+#: Manifest columns passed to :func:`eddyphone.io.load`.
+LOAD_COLUMNS = ("patient", "site", "posture")
+#: Manifest columns that become :class:`~eddyphone.context.PatientContext` fields
+#: (``states`` separated by ``;``).
+CONTEXT_COLUMNS = ("hematocrit", "heart_rate_bpm", "cardiac_output_l_min", "stroke_volume_ml",
+                   "diameter_mm", "age_years", "states")
+
+
+def split_row(row: dict[str, str], source: str) -> tuple[str, dict, dict, dict]:
+    """Split a manifest row into its path, load options, patient context and the rest.
+
+    Raises
+    ------
+    InputError
+        A context value that is not a number.
+    """
+    row = dict(row)
+    file = row.pop("path")
+    load = {k: row.pop(k) for k in LOAD_COLUMNS if k in row}
+    context: dict[str, object] = {}
+    for k in CONTEXT_COLUMNS:
+        if k not in row:
+            continue
+        value = row.pop(k)
+        if k == "states":
+            context[k] = tuple(s.strip() for s in value.split(";") if s.strip())
+            continue
+        try:
+            context[k] = float(value)
+        except ValueError:
+            raise InputError(f"{source} row for {file}", f"{k}={value!r} is not a number",
+                             f"write {k} as a plain number, e.g. 0.42") from None
+    return file, load, context, row
