@@ -322,9 +322,12 @@ def _too_even(starts: np.ndarray, states: np.ndarray, ffs: float) -> bool:
     sys_m, dia_m = float(np.median(sys)), float(np.median(dia))
     rr = sys_m + dia_m
     hr = 60.0 / rr
-    expected = abs(rr - 2.0 * systolic_interval_s(float(np.clip(hr, 20.0, 250.0)))[0]) / rr
-    measured = abs(dia_m - sys_m) / rr
-    return expected > 0.08 and measured < 0.25 * expected
+    expected_s = abs(rr - 2.0 * systolic_interval_s(float(np.clip(hr, 20.0, 250.0)))[0])
+    measured_s = abs(dia_m - sys_m)
+    # Even within a quarter of the expected difference (when that is over 8 % of
+    # the cycle), or within about one frame (20 ms) where 40 ms or more is due.
+    return ((expected_s > 0.08 * rr and measured_s < 0.25 * expected_s)
+            or (expected_s >= 0.04 and measured_s <= 0.025))
 
 
 def _hypotheses(cands: list[HeartRateEstimate], sound: np.ndarray, ffs: float,
