@@ -47,7 +47,7 @@ def find_sample_audio() -> Path:
     raise InputError(None, "no sample_audio/ folder found (looked in "
                      + " and ".join(str(c) for c in candidates) + ")",
                      "run the demo from the repository folder, pass --recordings DIR, or "
-                     "make the recordings with 'eddyphone simulate --demo --out sample_audio'")
+                     "make the recordings with 'eddyphone simulate --out sample_audio'")
 
 
 def new_folder(parent: Path, name: str) -> Path:
