@@ -410,3 +410,16 @@ def test_overall_combines_several_murmurs():
     hf = next(m for m in e.overall if m.name == "high_flow").score
     assert hf == pytest.approx((0.5 * s1 + 0.9 * s2) / 1.4)
     assert np.isfinite(hf)
+
+
+def test_diastolic_rumble_reads_as_inflow_and_blowing_decrescendo_as_leak():
+    # Common practice: a narrowed inflow valve gives a low-pitched rumble (often with a
+    # presystolic accent); a regurgitant leak a higher-pitched blowing early decrescendo.
+    from eddyphone.explain.candidates import murmur_pattern
+
+    rumble = murmur(phase="diastolic", timing="holo", shape="decrescendo", pitch="low",
+                    quality_words=("rumbling",), dominant_frequency_hz=90.0)
+    leak = murmur(phase="diastolic", timing="early", shape="decrescendo", pitch="medium",
+                  quality_words=("blowing",), dominant_frequency_hz=190.0)
+    assert murmur_pattern(rumble) == "inflow"
+    assert murmur_pattern(leak) == "leak"

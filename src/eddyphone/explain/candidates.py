@@ -61,15 +61,21 @@ def murmur_pattern(murmur: object) -> str:
     """The lesion pattern a murmur's phase, timing and shape suggest.
 
     Returns ``'outflow'`` (systolic ejection), ``'leak'`` (holosystolic or plateau
-    systolic; early decrescendo diastolic), ``'inflow'`` (other diastolic) or ``'shunt'``
-    (continuous).
+    systolic; early decrescendo diastolic), ``'inflow'`` (other diastolic, and any
+    low-pitched rumbling diastolic murmur or one with a presystolic accent) or
+    ``'shunt'`` (continuous). Common practice: a regurgitant diastolic leak is a
+    high- or medium-pitched blowing decrescendo; a narrowed inflow valve gives a
+    low-pitched rumble that swells again before S1.
     """
     phase, timing, shape = murmur.phase, murmur.timing, murmur.shape
     if phase == "continuous":
         return "shunt"
     if phase == "systolic":
         return "leak" if timing == "holo" or shape == "plateau" else "outflow"
-    if shape == "decrescendo" and timing in ("early", "holo"):
+    rumble = ("rumbling" in tuple(getattr(murmur, "quality_words", ()) or ())
+              or bool(getattr(murmur, "presystolic_accent", False))
+              or getattr(murmur, "pitch", None) == "low")
+    if not rumble and shape == "decrescendo" and timing in ("early", "holo"):
         return "leak"
     return "inflow"
 
