@@ -13,6 +13,7 @@ reference, with its designed labels. Grades above III are compared as "III or
 more" (sound alone cannot show the thrill that grades IV-VI need).
 
     python bench/bench_findings.py [--n 150] [--seed 1] [--beats truth|hsmm] [--jobs 2]
+        [--rows rows.json]
 """
 
 from __future__ import annotations
@@ -108,6 +109,7 @@ def main() -> None:
     ap.add_argument("--beats", choices=("truth", "hsmm"), default="truth")
     ap.add_argument("--jobs", type=int, default=2)
     ap.add_argument("--worst", type=int, default=12)
+    ap.add_argument("--rows", help="also write the per-case rows to this JSON file")
     a = ap.parse_args()
     from eddyphone.simulate import benchmark_specs
 
@@ -116,6 +118,11 @@ def main() -> None:
     with ProcessPoolExecutor(a.jobs) as ex:
         rows = list(ex.map(_one, [(s, a.beats) for s in specs], chunksize=2))
     wall = time.perf_counter() - t0
+    if a.rows:
+        import json
+
+        with open(a.rows, "w") as fh:
+            json.dump(rows, fh, indent=1, default=str)
 
     hi = [r for r in rows if r["snr_db"] >= 10]
     print(f"benchmark set: {len(rows)} cases (seed {a.seed}), beats from {a.beats}; "
