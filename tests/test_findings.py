@@ -291,3 +291,45 @@ def test_harsh_ejection_blowing_leak():
                                   seed=12))
         words[cause] = f.main().quality_words
     assert words == {"narrowed_outflow": ("harsh",), "systolic_leak": ("blowing",)}
+
+
+# --- S2 onsets refined from the recording's own S2 template ------------------------------
+
+def test_s2_onset_pulled_early_by_an_ejection_murmur_is_refined():
+    # demo 03: a loud ejection murmur runs up to S2 and the segmenter starts S2 about
+    # 0.1 s early; the findings move it back to the gap before S2. Reference: the
+    # simulator's exact S2 onsets and its measured timing/shape labels.
+    from eddyphone.findings.boundaries import refine_s2_onsets
+    from eddyphone.segment import segment
+    from eddyphone.simulate import demo_specs
+
+    sim = generate(demo_specs()["03_older_adult_outflow"])
+    c = condition(sim.x, sim.fs)
+    seg_beats = segment(c.x, c.fs).beats
+    true_on = np.array([b.s2_onset_s for b in _truth_beats(sim)])
+    new, shift = refine_s2_onsets(c.x, c.fs, seg_beats)
+    assert shift > 0.03
+
+    def err(beats):
+        return np.median([np.min(np.abs(true_on - b.s2_onset_s)) for b in beats])
+
+    assert err(seg_beats) > 0.05  # the segmenter's onsets sit well before S2 here
+    assert err(new) < 0.015       # refined: within about one short frame of the truth
+    m = describe(c.x, c.fs, seg_beats).main()
+    truth = sim.truth["murmur"]["measured"]
+    assert (m.timing, m.shape) == (truth["timing"], truth["shape"])
+
+
+@pytest.mark.parametrize("name", ["01_resting_adult", "05_systolic_leak", "09_diastolic_leak"])
+def test_s2_onsets_left_alone_when_already_right(name):
+    # correct onsets (the simulator's exact segments) and a murmur that runs into S2
+    # (05) must not be moved: the template rises steadily from onset to peak
+    from eddyphone.findings.boundaries import refine_s2_onsets
+    from eddyphone.simulate import demo_specs
+
+    sim = generate(demo_specs()[name])
+    c = condition(sim.x, sim.fs)
+    beats = _truth_beats(sim)
+    new, shift = refine_s2_onsets(c.x, c.fs, beats)
+    assert shift == 0.0
+    assert [b.s2_onset_s for b in new] == [b.s2_onset_s for b in beats]

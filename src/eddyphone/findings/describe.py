@@ -7,6 +7,7 @@ from collections.abc import Sequence
 import numpy as np
 
 from eddyphone.errors import InputError
+from eddyphone.findings.boundaries import refine_s2_onsets
 from eddyphone.findings.config import FindingsConfig
 from eddyphone.findings.measures import (
     MIN_WINDOW_S,
@@ -73,9 +74,13 @@ def describe(x: np.ndarray, fs: float, segmentation, *, quality=None,
                          "pass the 1-D conditioned samples")
     beats_all = list(getattr(segmentation, "beats", segmentation) or ())
     beats = _usable_beats(beats_all, quality)
-    frame_s = analysis_frame_s(beats, cfg.frame_s)
+    # murmur windows end at S2 onsets checked against the recording's S2 template
+    # (a loud murmur can pull the segmenter's S2 onset early); extra sounds keep the
+    # segmenter's boundaries
+    mbeats, _ = refine_s2_onsets(x, fs, beats)
+    frame_s = analysis_frame_s(mbeats, cfg.frame_s)
     spec = spectrogram(x, fs, frame_s=frame_s, hop_s=min(cfg.hop_s, frame_s / 4.0))
-    prof = beat_profiles(spec, beats, cfg,
+    prof = beat_profiles(spec, mbeats, cfg,
                          min_window_s=MIN_WINDOW_S * frame_s / DEFAULT_FRAME_S)
     search = find_murmurs(spec, prof, cfg)
     extras = find_extra_sounds(x, fs, beats, cfg)
