@@ -333,3 +333,38 @@ def test_s2_onsets_left_alone_when_already_right(name):
     new, shift = refine_s2_onsets(c.x, c.fs, beats)
     assert shift == 0.0
     assert [b.s2_onset_s for b in new] == [b.s2_onset_s for b in beats]
+
+
+# --- continuous murmurs --------------------------------------------------------------------
+
+def test_continuous_murmur_runs_through_s2():
+    # demo 10 (a shunt): the murmur fills the whole cycle, so it barely stands above
+    # the quiet parts; its spill into early diastole, locked to S2, gives it away.
+    # Reference: the simulator's exact segments and its truth (phase continuous,
+    # measured shape crescendo-decrescendo peaking around S2)
+    from eddyphone.findings.murmur import SPILL_T
+    from eddyphone.simulate import demo_specs
+
+    sim = generate(demo_specs()["10_continuous_shunt"])
+    c = condition(sim.x, sim.fs)
+    f = describe(c.x, c.fs, _truth_beats(sim))
+    truth = sim.truth["murmur"]
+    m = f.main()
+    assert f.presence == "present" and m.phase == truth["phase"] == "continuous"
+    assert m.shape == truth["measured"]["shape"]
+    # its profile covers both windows and peaks before mid-diastole (truth: in systole)
+    assert len(m.profile) == 2 * FindingsConfig().bins_per_window
+    assert truth["measured"]["peak_fraction"] < 0.5 and m.peak_fraction < 0.75
+    assert f.summary_dict()["murmur_phase"] == "continuous"
+    # the same statistic on a holosystolic leak whose murmur ends inside S2 stays low
+    # (simulator truth: phase systolic)
+    sim2 = generate(demo_specs()["05_systolic_leak"])
+    c2 = condition(sim2.x, sim2.fs)
+    from eddyphone.findings.measures import beat_profiles, spectrogram
+    from eddyphone.findings.murmur import find_murmurs
+
+    cfg = FindingsConfig()
+    sp = spectrogram(c2.x, c2.fs)
+    s = find_murmurs(sp, beat_profiles(sp, _truth_beats(sim2), cfg), cfg)
+    assert s.murmurs[0].phase == sim2.truth["murmur"]["phase"] == "systolic"
+    assert s.through_s2 and s.through_s2["t"] < SPILL_T

@@ -22,6 +22,10 @@ Method (our own arrangement of standard measures):
    mapped back to the whole window), pitch and quality words from the excess
    spectrum (murmur frames minus quiet frames) and the envelope roughness, the
    grade from the peak excess power relative to the louder of S1 and S2.
+6. A murmur is continuous when a systolic and a diastolic murmur meet at S2, or when
+   a systolic murmur reaching S2 spills into early diastole above the late-diastolic
+   level, beat by beat (:data:`SPILL_T`): a murmur filling the whole cycle barely
+   stands over the cycle's quiet parts, but its energy stays locked to S2.
 
 Public functions
 ----------------
@@ -35,7 +39,7 @@ quality_words(...) -> tuple of str
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 import numpy as np
 
@@ -66,6 +70,22 @@ BLOCK_BEATS = 4
 #: A murmur is "steady" when the interquartile range of its per-beat excess is at
 #: most this multiple of the null's (murmur-free windows of the same recording).
 STEADY_SPREAD = 1.5
+
+#: A systolic murmur that reaches S2 is continuous when the first ``SPILL_BINS`` bins
+#: of the following diastole, in its bands from 150 Hz up (above most of S2's own
+#: energy, ``physiology.S2_BAND_HZ``), stand above the second half of the same
+#: diastole by at least ``SPILL_MIN_DB`` with a paired t of ``SPILL_T`` across beats,
+#: and that spill is at least ``SPILL_SHARE`` of the murmur's own rise over late
+#: diastole (a loud holosystolic murmur with a faint S2 tail is not continuous).
+#: A continuous murmur fills the whole cycle, so it barely stands over the "quiet"
+#: parts; what gives it away is that its energy is locked to the cycle and straddles
+#: S2. Our own rule and settings, checked on the simulator: shunt murmurs reach
+#: t = 2.3-3.2, systolic murmurs of every other cause at most 1.8.
+SPILL_BINS = 2
+SPILL_MIN_DB = 0.5
+SPILL_T = 2.5
+SPILL_SHARE = 0.2
+SPILL_LOWEST_BAND_HZ = 150.0
 
 #: A murmur's extent for the timing word: where its power is within this many dB
 #: of its peak (the same -20 dB edge the simulator's truth uses; our own choice).
@@ -216,6 +236,9 @@ class MurmurSearch:
         ``{'systolic': bool array, 'diastolic': bool array}`` per measured beat.
     beat_excess_db : dict
         Per-beat excess (dB) over the murmur's bins, by phase.
+    through_s2 : dict
+        For a systolic murmur reaching S2: its spill into early diastole (``spill_db``,
+        ``t``, ``rise_db``; see :data:`SPILL_T`), empty otherwise.
     """
 
     murmurs: tuple[Murmur, ...]
@@ -223,6 +246,7 @@ class MurmurSearch:
     rejected: tuple[str, ...]
     beat_flags: dict
     beat_excess_db: dict
+    through_s2: dict = field(default_factory=dict)
 
 
 def _trimmed_mean(values: np.ndarray, cut: float) -> np.ndarray:
@@ -427,6 +451,31 @@ def _roughness(spec: Spectrogram, prof: Profiles, use: np.ndarray, w: int, k0: i
     return float(np.median(vals))
 
 
+def _through_s2(R: np.ndarray, bands: list[int], n_bins: int) -> dict:
+    """Spill of a systolic murmur (``bands``) into early diastole, per beat: first
+    :data:`SPILL_BINS` diastolic bins over the second half of diastole (dB), its mean
+    and paired t across beats, and the murmur's own late-systolic rise over the same
+    late-diastolic level."""
+    if not bands or R.shape[0] < 3:
+        return {}
+
+    def level(w: int, k0: int, k1: int) -> np.ndarray:
+        v = R[:, w][:, bands][:, :, k0:k1].mean(axis=(1, 2))
+        return 10.0 * np.log10(np.maximum(v, 1e-30))
+
+    late = level(DIA, n_bins // 2, n_bins)
+    d = level(DIA, 0, SPILL_BINS) - late
+    rise = level(SYS, n_bins - SPILL_BINS, n_bins) - late
+    sd = float(np.std(d, ddof=1))
+    t = float(np.mean(d) / (sd / np.sqrt(len(d)))) if sd > 0 else 0.0
+    return {"spill_db": float(np.mean(d)), "t": t, "rise_db": float(np.mean(rise))}
+
+
+def _continues(stat: dict) -> bool:
+    return bool(stat) and (stat["spill_db"] >= SPILL_MIN_DB and stat["t"] >= SPILL_T
+                           and stat["spill_db"] >= SPILL_SHARE * stat["rise_db"])
+
+
 def find_murmurs(spec: Spectrogram, prof: Profiles, config: FindingsConfig) -> MurmurSearch:
     """Find and describe murmurs from per-beat profiles.
 
@@ -469,6 +518,8 @@ def find_murmurs(spec: Spectrogram, prof: Profiles, config: FindingsConfig) -> M
     active = strong | faint
     rejected: list[str] = []
     cands = _candidates(M, active, X, dur_s, cfg, rejected)
+    through: dict = {}
+    spill_profile: tuple[float, ...] | None = None
 
     quiet = np.ones((2, n_bins), dtype=bool)
     for c in cands:
@@ -547,6 +598,13 @@ def find_murmurs(spec: Spectrogram, prof: Profiles, config: FindingsConfig) -> M
         use = shows if shows.sum() >= 2 else np.ones(n_beats, dtype=bool)
         prof_w = _trimmed_mean(excess_beats[use][:, c.window], 0.15)
         full = prof_w / max(prof_w.max(), 1e-30)
+        if c.window == SYS and c.k1 >= n_bins - 1 and not continuous:
+            hi_bands = [b for b in bands if spec.bands_hz[b][0] >= SPILL_LOWEST_BAND_HZ]
+            through = _through_s2(R, hi_bands, n_bins)
+            if _continues(through):
+                dia_w = _trimmed_mean(excess_beats[use][:, DIA], 0.15)
+                spill_profile = tuple(float(v) for v in np.concatenate([prof_w, dia_w])
+                                      / max(float(prof_w.max()), 1e-30))
         seg = full[c.k0:c.k1]
         seg_db = 10.0 * np.log10(np.maximum(seg / max(seg.max(), 1e-30), 1e-6))
         # extent: the active run, limited to where the murmur is within
@@ -631,15 +689,37 @@ def find_murmurs(spec: Spectrogram, prof: Profiles, config: FindingsConfig) -> M
                                     and shape != "crescendo" and _accent(full))))
     if continuous and len(murmurs) == 2 and all(m.presence == "present" for m in murmurs):
         murmurs = [_merge_continuous(murmurs[0], murmurs[1])]
+    elif spill_profile is not None and not any(m.phase == "diastolic" and m.presence == "present"
+                                               for m in murmurs):
+        murmurs = [_spill_continuous(m, spill_profile) if m.phase == "systolic" else m
+                   for m in murmurs]
     murmurs.sort(key=lambda m: (m.presence != "present", -m.level_db_re_heart_sounds))
     murmurs = [_with_id(m, f"m{i + 1}") for i, m in enumerate(murmurs)]
-    return MurmurSearch(tuple(murmurs), M, tuple(rejected), flags, beat_db)
+    return MurmurSearch(tuple(murmurs), M, tuple(rejected), flags, beat_db, through)
 
 
 def _with_id(m: Murmur, new_id: str) -> Murmur:
     from dataclasses import replace
 
     return replace(m, id=new_id)
+
+
+def _shape_of_cycle(prof: tuple[float, ...]) -> tuple[str, float]:
+    k = int(np.argmax(prof))
+    peak = (k + 0.5) / len(prof)
+    shape = "crescendo-decrescendo" if 0.2 < peak < 0.8 else ("crescendo" if peak >= 0.8
+                                                              else "decrescendo")
+    return shape, peak
+
+
+def _spill_continuous(s: Murmur, prof: tuple[float, ...]) -> Murmur:
+    """A systolic murmur found to run on through S2 (see :data:`SPILL_T`): continuous,
+    its profile across systole and diastole."""
+    from dataclasses import replace
+
+    shape, peak = _shape_of_cycle(prof)
+    return replace(s, phase="continuous", timing="holo", shape=shape, peak_fraction=peak,
+                   profile=prof)
 
 
 def _merge_continuous(s: Murmur, d: Murmur) -> Murmur:
