@@ -112,7 +112,13 @@ class FindingsConfig:
     min_present_level_db_re_heart_sounds : float
         Softer murmurs are reported as 'uncertain', not 'present' (10 dB under the
         grade I edge of ``GRADE_ANCHORS_DB``; our own setting: at -25 dB it cost
-        faint but consistent simulated murmurs and spared no murmur-free recording).
+        faint but consistent simulated murmurs).
+    faint_level_db_re_heart_sounds, faint_present_consistency : float
+        Murmurs softer than ``faint_level_db_re_heart_sounds`` (re S1/S2) need this
+        consistency to be called present: a faint excess must be seen in most beats
+        (our own settings; the 5 dB above ``min_present_level_db_re_heart_sounds``
+        where simulated murmur-free recordings with wheezes or crackles still showed
+        excesses in 60 % of their beats).
     """
 
     bins_per_window: int = 12
@@ -136,6 +142,8 @@ class FindingsConfig:
     tonal_present_consistency: float = 0.85
     min_level_db_re_heart_sounds: float = -30.0
     min_present_level_db_re_heart_sounds: float = -30.0
+    faint_level_db_re_heart_sounds: float = -25.0
+    faint_present_consistency: float = 0.85
 
     def __post_init__(self) -> None:
         if not 4 <= self.bins_per_window <= 64:

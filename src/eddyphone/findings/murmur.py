@@ -692,6 +692,8 @@ def find_murmurs(spec: Spectrogram, prof: Profiles, config: FindingsConfig) -> M
         paired = evidence.get(name, {}).get("t", 0.0)
         if "musical" not in words and paired >= PAIRED_T:
             need = min(need, cfg.uncertain_consistency)
+        if level < cfg.faint_level_db_re_heart_sounds:
+            need = max(need, cfg.faint_present_consistency)
         presence = "present" if (consistency >= need
                                  and n_beats >= cfg.min_beats_present
                                  and level >= cfg.min_present_level_db_re_heart_sounds
