@@ -155,6 +155,12 @@ def main() -> None:
     print(f"  shape  {_acc([(r['t_shape'], r['shape']) for r in tm])}   (designed labels: "
           f"{_acc([(r['t_shape_designed'], r['shape']) for r in tm])})")
     print(f"  pitch  {_acc([(r['t_pitch'], r['pitch']) for r in det])}")
+    cont = [r for r in rows if r["t_phase"] == "continuous" and r["presence"] == "present"]
+    wrong_cont = sum(r["phase"] == "continuous" for r in rows
+                     if r["t_present"] and r["t_phase"] != "continuous")
+    print(f"continuous murmurs read as continuous (all SNR, detected ones): "
+          f"{sum(r['phase'] == 'continuous' for r in cont)}/{len(cont)}; continuous calls on "
+          f"other murmurs: {wrong_cont}")
 
     def within(r: dict) -> bool:
         g = min(int(r["t_grade"]), 3)

@@ -388,3 +388,15 @@ def test_faint_murmur_present_from_paired_evidence():
     m = f.main()
     assert f.presence == "present", f.presence_reason
     assert m.consistency < FindingsConfig().present_consistency
+
+
+def test_faint_excess_in_few_beats_is_not_present():
+    # a murmur-free benchmark recording (simulator truth: no murmur) whose diastole
+    # shows a faint (-27 dB re S1/S2) excess in 6 of 10 beats: too faint and too
+    # irregular to call a murmur
+    from eddyphone.simulate import benchmark_specs
+
+    spec = next(s for s in benchmark_specs(120, seed=2) if s.seed == 200065)
+    sim, f = _findings(spec)
+    assert not sim.truth["murmur"]["present"]
+    assert f.presence != "present", f.presence_reason

@@ -88,6 +88,10 @@ SPILL_MIN_DB = 0.5
 SPILL_T = 2.5
 SPILL_SHARE = 0.2
 SPILL_LOWEST_BAND_HZ = 150.0
+#: ... and only for a murmur still within 6 dB of its peak (power share 0.25) in the
+#: last bins before S2 (a continuous murmur swells towards S2; an ejection murmur
+#: has faded by then).
+SPILL_END_SHARE = 0.25
 
 #: A murmur seen in too few single beats is still present when each beat's excess
 #: over its murmur bins beats the same beat's null (murmur-free bins of the other
@@ -618,7 +622,8 @@ def find_murmurs(spec: Spectrogram, prof: Profiles, config: FindingsConfig) -> M
         use = shows if shows.sum() >= 2 else np.ones(n_beats, dtype=bool)
         prof_w = _trimmed_mean(excess_beats[use][:, c.window], 0.15)
         full = prof_w / max(prof_w.max(), 1e-30)
-        if c.window == SYS and c.k1 >= n_bins - 1 and not continuous:
+        if (c.window == SYS and c.k1 >= n_bins - 1 and not continuous
+                and float(full[-SPILL_BINS:].mean()) >= SPILL_END_SHARE):
             hi_bands = [b for b in bands if spec.bands_hz[b][0] >= SPILL_LOWEST_BAND_HZ]
             through = _through_s2(R, hi_bands, n_bins)
             if _continues(through):
