@@ -132,13 +132,6 @@ def analyze(
     rec = recording if isinstance(recording, Recording) else load(recording)
     if isinstance(context, Mapping):
         context = PatientContext.from_mapping(context)
-    if context is not None and context.site is None and rec.site:
-        from dataclasses import replace
-
-        from eddyphone.context import KNOWN_SITES
-
-        if rec.site in KNOWN_SITES:
-            context = replace(context, site=rec.site)
     conditioned = condition(rec.x, rec.fs, config.condition)
     quality = assess(rec.x, rec.fs, config.quality)
     segmentation = segment(conditioned.x, conditioned.fs, quality=quality,
