@@ -133,7 +133,8 @@ def analyze(
     if isinstance(context, Mapping):
         context = PatientContext.from_mapping(context)
     conditioned = condition(rec.x, rec.fs, config.condition)
-    quality = assess(rec.x, rec.fs, config.quality)
+    known_hum = conditioned.hum_hz if config.condition.remove_hum else "detect"
+    quality = assess(rec.x, rec.fs, config.quality, hum_hz=known_hum)
     segmentation = segment(conditioned.x, conditioned.fs, quality=quality,
                            config=config.segment)
     findings = describe(conditioned.x, conditioned.fs, segmentation, quality=quality,

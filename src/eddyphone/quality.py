@@ -232,12 +232,21 @@ def _window_bounds(n: int, fs: float, window_s: float) -> list[tuple[int, int]]:
     return bounds
 
 
-def assess(x: np.ndarray, fs: float, config: QualityConfig | None = None) -> Quality:
-    """Score the quality of raw samples ``x`` (before conditioning) at rate ``fs``."""
+_DETECT = "detect"
+
+
+def assess(x: np.ndarray, fs: float, config: QualityConfig | None = None, *,
+           hum_hz: float | None | str = _DETECT) -> Quality:
+    """Score the quality of raw samples ``x`` (before conditioning) at rate ``fs``.
+
+    ``hum_hz`` passes on a mains-hum detection already made (by conditioning), so
+    it is not computed twice; by default it is detected here.
+    """
     config = config or QualityConfig()
     raw = np.asarray(x, dtype=np.float64)
     centred = raw - np.mean(raw)
-    hum_hz = detect_hum(centred, fs)
+    if hum_hz == _DETECT:
+        hum_hz = detect_hum(centred, fs)
     heart = bandpass(centred, fs, config.band_hz)
     overall = _measure(raw, heart, fs, hum_hz)
     _, reasons = _score(overall, config)
