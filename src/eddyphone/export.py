@@ -9,32 +9,19 @@ from __future__ import annotations
 import csv
 import io
 import json
-import os
 from collections.abc import Iterable, Sequence
 from pathlib import Path
 from typing import Any
 
 from eddyphone.errors import InputError
+from eddyphone.io.atomic import atomic_write_bytes, atomic_write_text
+from eddyphone.io.labels import write_segments_csv
+
+__all__ = ["BEAT_COLUMNS", "atomic_write_bytes", "atomic_write_text", "check_free", "csv_text",
+           "output_paths", "write_analysis"]
 
 BEAT_COLUMNS = ("beat", "s1_onset_s", "s1_offset_s", "s2_onset_s", "s2_offset_s",
                 "next_s1_onset_s", "rr_s", "systole_ms", "diastole_ms", "confidence")
-
-
-def atomic_write_bytes(path: Path, data: bytes) -> Path:
-    """Write ``data`` to ``path`` through a temporary file and a rename."""
-    path.parent.mkdir(parents=True, exist_ok=True)
-    tmp = path.with_name(f".{path.name}.{os.getpid()}.part")
-    with tmp.open("wb") as fh:
-        fh.write(data)
-        fh.flush()
-        os.fsync(fh.fileno())
-    tmp.replace(path)
-    return path
-
-
-def atomic_write_text(path: Path, text: str) -> Path:
-    """Write UTF-8 ``text`` atomically."""
-    return atomic_write_bytes(path, text.encode("utf-8"))
 
 
 def csv_text(header: Sequence[str], rows: Iterable[Sequence[Any]]) -> str:
@@ -79,9 +66,8 @@ def write_analysis(analysis: Any, out_dir: str | Path, *, stem: str | None = Non
     check_free(wanted.values(), source=analysis.recording.source, overwrite=overwrite)
     data = analysis.to_dict()
     atomic_write_text(paths["json"], json.dumps(data, indent=2, allow_nan=False) + "\n")
-    atomic_write_text(paths["segments"], csv_text(
-        ("start_s", "end_s", "label"),
-        ((f"{s['start_s']:.4f}", f"{s['end_s']:.4f}", s["label"]) for s in data["segments"])))
+    write_segments_csv(paths["segments"],
+                       ((s["start_s"], s["end_s"], s["label"]) for s in data["segments"]))
     atomic_write_text(paths["beats"], csv_text(
         BEAT_COLUMNS, ([_cell(b.get(c if c != "beat" else "index")) for c in BEAT_COLUMNS]
                        for b in data["beats"])))

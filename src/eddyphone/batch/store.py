@@ -21,10 +21,11 @@ from __future__ import annotations
 
 import hashlib
 import json
-import os
 from collections.abc import Iterable, Mapping
 from pathlib import Path
 from typing import Any
+
+from eddyphone.io.atomic import atomic_write_bytes as atomic_write
 
 #: Version of the record layout; records of another version are recomputed.
 RECORD_VERSION = 1
@@ -61,21 +62,6 @@ def code_digest() -> str:
         digest.update(p.relative_to(root).as_posix().encode() + b"\0")
         digest.update(p.read_bytes())
     return digest.hexdigest()[:16]
-
-
-def atomic_write(path: Path, data: bytes) -> None:
-    """Write ``data`` through a temporary file in the same folder, fsync, rename."""
-    path.parent.mkdir(parents=True, exist_ok=True)
-    tmp = path.with_name(f".{path.name}.{os.getpid()}.tmp")
-    try:
-        with tmp.open("wb") as fh:
-            fh.write(data)
-            fh.flush()
-            os.fsync(fh.fileno())
-        os.replace(tmp, path)
-    finally:
-        if tmp.exists():
-            tmp.unlink()
 
 
 class Store:

@@ -3,10 +3,12 @@
 from __future__ import annotations
 
 import csv
+import io
 from collections.abc import Iterable
 from pathlib import Path
 
 from eddyphone.errors import InputError
+from eddyphone.io.atomic import atomic_write_text
 
 SEGMENT_HEADER = ("start_s", "end_s", "label")
 
@@ -32,12 +34,9 @@ def read_segments_csv(path: str | Path) -> list[tuple[float, float, str]]:
 
 def write_segments_csv(path: str | Path, rows: Iterable[tuple[float, float, str]]) -> Path:
     """Write an interval table atomically (temporary file, then rename)."""
-    path = Path(path)
-    tmp = path.with_name(path.name + ".part")
-    with tmp.open("w", newline="", encoding="utf-8") as fh:
-        writer = csv.writer(fh)
-        writer.writerow(SEGMENT_HEADER)
-        for start, end, label in rows:
-            writer.writerow((f"{start:.4f}", f"{end:.4f}", label))
-    tmp.replace(path)
-    return path
+    buffer = io.StringIO()
+    writer = csv.writer(buffer, lineterminator="\n")
+    writer.writerow(SEGMENT_HEADER)
+    for start, end, label in rows:
+        writer.writerow((f"{start:.4f}", f"{end:.4f}", label))
+    return atomic_write_text(Path(path), buffer.getvalue())
