@@ -71,6 +71,10 @@ class SegmentConfig:
     adapt_weight : float
         Weight (0-1) of emissions re-fitted to the recording's own first decoding
         (0 switches this adaptation off).
+    diastole_tail_periods : float
+        The diastole may last up to this many beat periods beyond its mean (carried
+        by the uniform floor), so a pause or a long cycle of an irregular rhythm is
+        not filled with an invented beat.
     emission_model : str or None
         Path of an emission model JSON; None uses the shipped model.
     """
@@ -90,6 +94,7 @@ class SegmentConfig:
     overlap_s: float = 6.0
     min_run_s: float = 2.5
     adapt_weight: float = 0.5
+    diastole_tail_periods: float = 1.0
     emission_model: str | None = None
 
     def __post_init__(self) -> None:
@@ -192,7 +197,8 @@ def _tables(hr: float, sys_s: float, rr_spread_s: float, ffs: float, cfg: Segmen
                            systole_sd_s=cfg.systole_sd_s,
                            diastole_sd_fraction=cfg.diastole_sd_fraction,
                            diastole_sd_floor_s=cfg.diastole_sd_floor_s,
-                           rr_spread_s=rr_spread_s)
+                           rr_spread_s=rr_spread_s,
+                           diastole_tail_s=cfg.diastole_tail_periods * 60.0 / hr)
     return duration_tables(laws, ffs, floor_weight=cfg.duration_floor_weight)
 
 
@@ -570,7 +576,7 @@ def segment(x: np.ndarray, fs: float, *, quality=None,
             segments.append(Segment(s / ffs, e / ffs, STATES[k]))
             scores.append(score)
 
-    beats = beats_from_segments(segments, scores)
+    beats = beats_from_segments(segments, scores, [a / ffs for a, _ in runs])
     if estimates:
         est = HeartRateEstimate(
             float(np.median([e.heart_rate_bpm for e in estimates])),

@@ -79,8 +79,8 @@ class Beat:
         return out
 
 
-def beats_from_segments(segments: Sequence[Segment], segment_scores: Sequence[float]
-                        ) -> tuple[Beat, ...]:
+def beats_from_segments(segments: Sequence[Segment], segment_scores: Sequence[float],
+                        cut_onsets_s: Sequence[float] = ()) -> tuple[Beat, ...]:
     """Find every S1, systole, S2 run and describe it as a beat.
 
     Parameters
@@ -90,6 +90,10 @@ def beats_from_segments(segments: Sequence[Segment], segment_scores: Sequence[fl
     segment_scores : sequence of float
         A 0-1 support score for each segment (mean frame probability of its kind:
         sound for S1/S2, silence for systole/diastole).
+    cut_onsets_s : sequence of float
+        Starts of the decoded stretches: an S1 starting there was cut by the edge of
+        the recording or of a skipped window, so its onset (and the beat's RR and
+        systole) is unknown and the beat is left out.
 
     Returns
     -------
@@ -99,9 +103,12 @@ def beats_from_segments(segments: Sequence[Segment], segment_scores: Sequence[fl
     scores = np.asarray(segment_scores, dtype=float)
     out: list[Beat] = []
     tol = 1e-6
+    cut = np.asarray(cut_onsets_s, dtype=float)
     for i in range(len(segs) - 2):
         s1, sys, s2 = segs[i], segs[i + 1], segs[i + 2]
         if (s1.label, sys.label, s2.label) != ("S1", "systole", "S2"):
+            continue
+        if np.any(np.abs(cut - s1.start_s) <= tol):
             continue
         if abs(s1.end_s - sys.start_s) > tol or abs(sys.end_s - s2.start_s) > tol:
             continue

@@ -38,6 +38,7 @@ def state_durations(heart_rate_bpm: float, systolic_interval_s: float, *,
                     s1_s: tuple[float, float], s2_s: tuple[float, float],
                     systole_sd_s: float, diastole_sd_fraction: float,
                     diastole_sd_floor_s: float, rr_spread_s: float = 0.0,
+                    diastole_tail_s: float = 0.0,
                     ) -> tuple[StateDuration, ...]:
     """Duration laws of S1, systole, S2 and diastole for one heart rate.
 
@@ -55,6 +56,8 @@ def state_durations(heart_rate_bpm: float, systolic_interval_s: float, *,
         Diastole sd = fraction * mean + floor.
     rr_spread_s : float
         Extra spread (sd of RR, seconds) added to the diastole for irregular rhythms.
+    diastole_tail_s : float
+        The longest diastole is at least this much above its mean.
 
     Returns
     -------
@@ -75,7 +78,7 @@ def state_durations(heart_rate_bpm: float, systolic_interval_s: float, *,
     dia_sd = float(np.hypot(diastole_sd_fraction * dia_mean + diastole_sd_floor_s,
                             rr_spread_s))
     diastole = StateDuration(dia_mean, dia_sd, max(0.04, dia_mean - 3.5 * dia_sd),
-                             dia_mean + 4.5 * dia_sd)
+                             dia_mean + max(4.5 * dia_sd, diastole_tail_s))
     return s1, systole, s2, diastole
 
 
