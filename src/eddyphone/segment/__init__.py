@@ -232,11 +232,12 @@ def _swap_evidence(starts: np.ndarray, ends: np.ndarray, states: np.ndarray,
     sys, dia = _intervals(starts, states, ffs)
     if len(sys) < 2 or len(dia) < 2:
         return 0.0
+    frame_state = np.repeat(states, ends - starts)
     emission = 0.0
     if loglik is not None:
-        lab = np.repeat(states, ends - starts)
-        rows = np.arange(len(lab))
-        diff = float(np.sum(loglik[rows, lab]) - np.sum(loglik[rows, (lab + 2) % 4]))
+        rows = np.arange(len(frame_state))
+        diff = float(np.sum(loglik[rows, frame_state])
+                     - np.sum(loglik[rows, (frame_state + 2) % 4]))
         emission = float(np.clip(diff / max(len(sys), 1), -3, 3))
     sys_m, dia_m = float(np.median(sys)), float(np.median(dia))
     hr = 60.0 / (sys_m + dia_m)
@@ -251,15 +252,12 @@ def _swap_evidence(starts: np.ndarray, ends: np.ndarray, states: np.ndarray,
     sd_s, sd_d = float(np.std(sys)), float(np.std(dia))
     if len(sys) >= 4 and max(sd_s, sd_d) > 0.015:
         stability = float(np.clip(np.log((sd_d + 0.005) / (sd_s + 0.005)) / 0.5, -3, 3))
-    m1 = np.concatenate([tilt[s:e] for s, e, k in zip(starts, ends, states, strict=True)
-                         if k == 0] or [np.zeros(0)])
-    m2 = np.concatenate([tilt[s:e] for s, e, k in zip(starts, ends, states, strict=True)
-                         if k == 2] or [np.zeros(0)])
+    m1, m2 = tilt[frame_state == 0], tilt[frame_state == 2]
     pitch = 0.0
     if len(m1) and len(m2):
         pitch = float(np.clip((np.mean(m2) - np.mean(m1)) / 0.3, -3, 3))
-    d1 = [e - s for s, e, k in zip(starts, ends, states, strict=True) if k == 0]
-    d2 = [e - s for s, e, k in zip(starts, ends, states, strict=True) if k == 2]
+    lengths = ends - starts
+    d1, d2 = lengths[states == 0], lengths[states == 2]
     duration = 0.0
     if len(d1) >= 2 and len(d2) >= 2:
         duration = float(np.clip((np.median(d1) - np.median(d2)) / ffs / 0.015, -2, 2))
@@ -300,15 +298,14 @@ def _missed_fraction(starts: np.ndarray, ends: np.ndarray, states: np.ndarray,
     diastoles. A gap "holds a sound" when at least 3 consecutive frames (60 ms at
     50 Hz) inside it have P(sound) above 0.6.
     """
-    gaps = 0
-    hits = 0
-    for s, e, k in zip(starts, ends, states, strict=True):
-        if k in (0, 2) or e - s < 5:
-            continue
-        gaps += 1
-        loud = sound[s + 1: e - 1] > 0.6
-        if len(loud) >= 3 and np.any(loud[:-2] & loud[1:-1] & loud[2:]):
-            hits += 1
+    loud = sound > 0.6
+    triple = np.zeros(len(sound) + 1, dtype=int)
+    triple[1: max(len(sound) - 1, 1)] = loud[:-2] & loud[1:-1] & loud[2:]
+    count = np.cumsum(triple)  # count[i] = triples starting before frame i
+    gap = ((states == 1) | (states == 3)) & (ends - starts >= 5)
+    gaps = int(np.count_nonzero(gap))
+    # a triple inside frames s + 1 .. e - 2 starts at s + 1 .. e - 4
+    hits = int(np.count_nonzero(count[ends[gap] - 3] - count[starts[gap] + 1] > 0))
     return hits / gaps if gaps else 0.0
 
 

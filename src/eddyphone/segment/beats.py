@@ -8,6 +8,7 @@ beats_from_segments
 
 from __future__ import annotations
 
+import math
 from collections.abc import Sequence
 from dataclasses import asdict, dataclass
 
@@ -100,15 +101,15 @@ def beats_from_segments(segments: Sequence[Segment], segment_scores: Sequence[fl
     tuple of Beat
     """
     segs = list(segments)
-    scores = np.asarray(segment_scores, dtype=float)
+    log_scores = np.log(np.clip(np.asarray(segment_scores, dtype=float), 1e-6, 1.0)).tolist()
     out: list[Beat] = []
     tol = 1e-6
-    cut = np.asarray(cut_onsets_s, dtype=float)
+    cut = sorted(float(v) for v in cut_onsets_s)
     for i in range(len(segs) - 2):
         s1, sys, s2 = segs[i], segs[i + 1], segs[i + 2]
         if (s1.label, sys.label, s2.label) != ("S1", "systole", "S2"):
             continue
-        if np.any(np.abs(cut - s1.start_s) <= tol):
+        if any(abs(c - s1.start_s) <= tol for c in cut):
             continue
         if abs(s1.end_s - sys.start_s) > tol or abs(sys.end_s - s2.start_s) > tol:
             continue
@@ -120,7 +121,8 @@ def beats_from_segments(segments: Sequence[Segment], segment_scores: Sequence[fl
                     and abs(s2.end_s - dia.start_s) <= tol and abs(dia.end_s - s1n.start_s) <= tol):
                 nxt = s1n.start_s
                 used.append(i + 3)
-        conf = float(np.clip(np.exp(np.mean(np.log(np.clip(scores[used], 1e-6, 1.0)))), 0, 1))
+        # geometric mean of the segments' support
+        conf = min(1.0, math.exp(sum(log_scores[k] for k in used) / len(used)))
         out.append(Beat(
             index=len(out),
             s1_onset_s=s1.start_s,

@@ -82,7 +82,6 @@ def viterbi_cyclic(log_emission: np.ndarray, log_duration: np.ndarray,
     surv_t = ls.T  # (D + 1, N)
     # h[t, j] = end[t, j - 1] - cum[t, j]: a path whose state j starts at frame t.
     h = end[prev].T - cum
-    back = back.T
 
     # The last segment, cut by the right edge.
     d_last = np.arange(1, min(dmax, n_frames) + 1)
@@ -95,23 +94,8 @@ def viterbi_cyclic(log_emission: np.ndarray, log_duration: np.ndarray,
     flat = int(np.argmax(last))
     k_d, j = divmod(flat, n)
     score = float(last[k_d, j])
-    seg_end, seg_start = n_frames, n_frames - int(d_last[k_d])
-    starts, ends, states = [seg_start], [seg_end], [j]
-    if seg_start == 0:
-        pass
-    else:
-        while True:
-            j = int(prev[j])
-            seg_end = seg_start
-            bd = int(back[seg_end, j])
-            seg_start = 0 if bd < 0 else seg_end - bd
-            starts.append(seg_start)
-            ends.append(seg_end)
-            states.append(j)
-            if seg_start == 0:
-                break
-    return (np.array(starts[::-1], dtype=int), np.array(ends[::-1], dtype=int),
-            np.array(states[::-1], dtype=int), score)
+    starts, ends, states = _backtrack(back, n_frames - int(d_last[k_d]), n_frames, j)
+    return starts, ends, states, score
 
 
 @numba.njit(cache=True, nogil=True)
@@ -146,3 +130,23 @@ def _forward(cum_t: np.ndarray, ld: np.ndarray, ls: np.ndarray, li: np.ndarray,
             end[j, t] = best
             back[j, t] = arg
     return end, back
+
+
+@numba.njit(cache=True, nogil=True)
+def _backtrack(back: np.ndarray, seg_start: int, seg_end: int, j: int
+               ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Segments of the best path, in time order, from its last segment back to frame 0."""
+    n = back.shape[0]
+    starts = [seg_start]
+    ends = [seg_end]
+    states = [j]
+    while seg_start > 0:
+        j = (j - 1) % n
+        seg_end = seg_start
+        bd = back[j, seg_end]
+        seg_start = 0 if bd < 0 else seg_end - bd
+        starts.append(seg_start)
+        ends.append(seg_end)
+        states.append(j)
+    return (np.array(starts[::-1], dtype=np.int64), np.array(ends[::-1], dtype=np.int64),
+            np.array(states[::-1], dtype=np.int64))
