@@ -20,8 +20,10 @@ Method (our own arrangement of standard measures):
    of beats and the level re S1/S2. A murmur whose per-beat excess beats the same
    beat's null on average (paired t across beats, :data:`PAIRED_T`) needs only the
    'uncertain' consistency.
-5. Timing and shape come from the excess profile (edges at -20 dB of its peak,
-   mapped back to the whole window), pitch and quality words from the excess
+5. Timing and shape come from the excess profile, each band weighted by its own
+   noise floor so the device's tilt does not let one band stand for the murmur
+   (edges at :data:`EXTENT_DB` under its peak, mapped back to the whole window),
+   pitch and quality words from the excess
    spectrum (murmur frames minus quiet frames) and the envelope roughness, the
    grade from the peak excess power relative to the louder of S1 and S2.
 6. A murmur is continuous when a systolic and a diastolic murmur meet at S2, or when
@@ -100,9 +102,17 @@ SPILL_END_SHARE = 0.25
 #: candidates, and a one-sided t of 6 is far out in any tail for 8+ beats.
 PAIRED_T = 6.0
 
-#: A murmur's extent for the timing word: where its power is within this many dB
-#: of its peak (the same -20 dB edge the simulator's truth uses; our own choice).
-EXTENT_DB = 20.0
+#: A murmur's extent for the timing word: where its measured profile is within this
+#: many dB of its peak. The profile is band-limited, averaged over beats and smeared
+#: by the analysis frames, so it falls more gently than the murmur itself: 15 dB on
+#: it stands for the -20 dB edge of the clean envelope (our own setting, checked on
+#: the simulator benchmark against its -20 dB truth).
+EXTENT_DB = 15.0
+
+#: Part of a frame taken off each measured edge: a frame reaching past a sound's end
+#: still shows it, but a tapered (Hann) frame weights its ends little, so the smear
+#: at the extent threshold is about a quarter frame, not half (our own setting).
+EDGE_SMEAR_FRAMES = 0.25
 
 #: When the recording's own S1/S2 centroid lies below this (Hz), the device or
 #: chest wall is tilting the spectrum hard (S1/S2 normally spread over 25-150 Hz,
@@ -468,6 +478,16 @@ def _roughness(spec: Spectrogram, prof: Profiles, use: np.ndarray, w: int, k0: i
     return float(np.median(vals))
 
 
+def _snr_profile(power: np.ndarray, noise: np.ndarray, bands: list[int]) -> np.ndarray:
+    """Beat-averaged time profile of a murmur from per-beat band powers
+    ``power`` (beats, bands, bins) over each beat's noise level ``noise`` (beats,
+    bands): the excess in each of ``bands`` in units of that band's typical noise,
+    summed over the bands (15 % trimmed mean over beats)."""
+    typical = np.maximum(np.median(noise, axis=0), 1e-30)
+    exc = np.clip(power[:, bands] - noise[:, bands, None], 0.0, None)
+    return _trimmed_mean((exc / typical[bands][None, :, None]).sum(axis=1), 0.15)
+
+
 def _through_s2(R: np.ndarray, bands: list[int], n_bins: int) -> dict:
     """Spill of a systolic murmur (``bands``) into early diastole, per beat: first
     :data:`SPILL_BINS` diastolic bins over the second half of diastole (dB), its mean
@@ -621,7 +641,10 @@ def find_murmurs(spec: Spectrogram, prof: Profiles, config: FindingsConfig) -> M
             continue
         use = shows if shows.sum() >= 2 else np.ones(n_beats, dtype=bool)
         prof_w = _trimmed_mean(excess_beats[use][:, c.window], 0.15)
-        full = prof_w / max(prof_w.max(), 1e-30)
+        # time course for timing and shape: the murmur's bands, each counted by how
+        # far it stands over its own noise floor (device-independent)
+        prof_snr = _snr_profile(prof.power[use][:, c.window], noise_beat[use], bands)
+        full = prof_snr / max(prof_snr.max(), 1e-30)
         if (c.window == SYS and c.k1 >= n_bins - 1 and not continuous
                 and float(full[-SPILL_BINS:].mean()) >= SPILL_END_SHARE):
             hi_bands = [b for b in bands if spec.bands_hz[b][0] >= SPILL_LOWEST_BAND_HZ]
@@ -643,9 +666,11 @@ def find_murmurs(spec: Spectrogram, prof: Profiles, config: FindingsConfig) -> M
         length = float(dur_s[c.window])
         if length > 0:
             whole = length + 2.0 * g
-            half = 0.5 * frame_s
-            t_on = g + onset * length + (half if onset > 0 else 0.0)
-            t_end = g + end * length - (half if end < 1 else 0.0)
+            # a murmur already there when the trimmed window opens runs from the
+            # sound itself (the guard hides its start); likewise at the end
+            half = EDGE_SMEAR_FRAMES * frame_s
+            t_on = g + onset * length + half if onset > 0 else 0.0
+            t_end = g + end * length - half if end < 1 else whole
             if t_end <= t_on:
                 t_on = t_end = 0.5 * (g + onset * length + g + end * length)
             onset, end = t_on / whole, t_end / whole
