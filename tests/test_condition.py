@@ -14,7 +14,9 @@ from eddyphone.condition import (
     condition,
     despike,
     detect_hum,
+    percentiles,
     remove_hum,
+    welch_psd,
 )
 
 FS = 4000.0
@@ -84,3 +86,64 @@ def test_condition_normalises_and_reports():
     assert np.sqrt(np.mean(out.x ** 2)) == pytest.approx(1.0, rel=1e-6)
     assert abs(np.mean(out.x)) < 1e-3
     assert out.describe()["band_hz"] == [25.0, 900.0]
+
+
+@pytest.mark.parametrize("band", [(25.0, 900.0), (25.0, 400.0), (50.0, 1990.0)])
+def test_bandpass_equals_scipy_sosfiltfilt(band):
+    # Reference: scipy.signal.sosfiltfilt of scipy.signal.butter's design (the cached
+    # design and the written-out forward-backward pass must give the same samples).
+    x = np.random.default_rng(7).standard_normal(12_345)
+    high = min(band[1], 0.95 * FS / 2)
+    sos = signal.butter(4, [band[0], high], btype="bandpass", fs=FS, output="sos")
+    for _ in range(2):  # the second call uses the cached design
+        np.testing.assert_allclose(bandpass(x, FS, band), signal.sosfiltfilt(sos, x),
+                                   rtol=0, atol=1e-12)
+    design = bandpass_sos(FS, band)
+    design[0, 0] = 0.0  # a caller's copy: editing it must not touch the cache
+    np.testing.assert_array_equal(bandpass_sos(FS, band), sos)
+
+
+@pytest.mark.parametrize(("n", "nperseg"), [(80_000, 16_000), (40_123, 16_000), (16_001, 16_001),
+                                            (5_000, 255), (3_000, 1_000)])
+def test_welch_psd_equals_scipy_welch(n, nperseg):
+    # Reference: scipy.signal.welch with its defaults (periodic Hann, half overlap,
+    # constant detrend, density scaling, one-sided, mean of the segments).
+    x = 0.3 + np.random.default_rng(n).standard_normal(n)
+    f_ref, p_ref = signal.welch(x, fs=FS, nperseg=nperseg)
+    f, p = welch_psd(x, FS, nperseg)
+    np.testing.assert_allclose(f, f_ref, rtol=1e-12)
+    np.testing.assert_allclose(p, p_ref, rtol=1e-9, atol=1e-12 * p_ref.max())
+
+
+@pytest.mark.parametrize("mains", [50.0, 60.0])
+def test_remove_hum_equals_scipy_notch_chain(mains):
+    # Reference: scipy.signal.iirnotch + scipy.signal.filtfilt at each harmonic in turn.
+    x = np.random.default_rng(2).standard_normal(20_000)
+    ref = x
+    f0 = mains
+    while f0 < 900.0:
+        b, a = signal.iirnotch(f0, f0 / 1.0, fs=FS)
+        ref = signal.filtfilt(b, a, ref)
+        f0 += mains
+    np.testing.assert_allclose(remove_hum(x, FS, mains), ref, rtol=0, atol=1e-9)
+
+
+def test_percentiles_equal_numpy():
+    # Reference: numpy.percentile (linear interpolation), value for value.
+    rng = np.random.default_rng(4)
+    q = (0.0, 10.0, 37.3, 50.0, 90.0, 95.0, 100.0)
+    for n in (1, 2, 3, 7, 54, 200, 1001):
+        for a in (rng.standard_normal(n) ** 2, np.round(rng.standard_normal(n), 1)):
+            assert percentiles(a, q) == list(np.percentile(a, q))
+    assert np.isnan(percentiles(np.array([]), (90.0,))[0])
+
+
+def test_despike_counts_each_spike_once():
+    x = burst_train(duration_s=8.0)
+    spiky = x.copy()
+    for t_s, height in ((1.62, 8.0), (2.63, 6.0), (2.9, 7.0), (5.37, 9.0)):
+        i = int(t_s * FS)
+        spiky[i: i + 3] = [height / 2, height, height / 2]
+    cleaned, n = despike(spiky, FS)
+    assert n == 4  # two in one 0.5-s window: both found, one after the other
+    assert np.max(np.abs(cleaned)) <= np.max(np.abs(x)) + 1e-12

@@ -3,11 +3,20 @@
 from __future__ import annotations
 
 import numpy as np
+import pytest
 from conftest import burst_train
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from eddyphone.quality import assess, clipping_fraction, periodicity
+from eddyphone.condition import bandpass, despike
+from eddyphone.quality import (
+    QualityConfig,
+    assess,
+    clipping_fraction,
+    contrast_db,
+    frame_energy,
+    periodicity,
+)
 
 FS = 4000.0
 
@@ -56,3 +65,34 @@ def test_periodicity_high_for_a_beat_train_low_for_noise():
     assert periodicity(energy + 1e-3, 50.0) > 0.9
     noise = np.random.default_rng(0).random(500)
     assert periodicity(noise, 50.0) < 0.3
+
+
+def test_clipping_fraction_counts_samples_in_runs_at_the_peak():
+    # Hand count: the peak level 1.0 is reached at samples 1, 2, 4, 6 and 7; runs of
+    # two or more are (1, 2) and (6, 7), so 4 of 9 samples are flagged.
+    x = np.array([0.0, 1.0, -1.0, 0.5, 1.0, 0.0, -1.0, 1.0, 0.2])
+    assert clipping_fraction(x) == pytest.approx(4 / 9)
+    assert clipping_fraction(np.array([0.0, 0.3, 0.0])) == 0.0  # one isolated peak
+    assert clipping_fraction(np.zeros(5)) == 0.0
+
+
+@pytest.mark.parametrize("window_s", [4.0, 3.01])
+def test_window_measures_equal_measuring_each_window_alone(window_s):
+    # 4-s windows line up with the 20-ms frames and 0.5-s spike windows (their measures
+    # are sliced from whole-recording arrays); 3.01-s windows do not. Either way each
+    # window must read as if it were measured on its own with the public functions.
+    x = burst_train(duration_s=13.0, seed=4) + 0.01 * np.random.default_rng(4).standard_normal(
+        int(13 * FS))
+    x[int(5.3 * FS): int(5.3 * FS) + 3] = [2.0, 4.0, 2.0]  # a handling spike
+    q = assess(x, FS, QualityConfig(window_s=window_s), hum_hz=None)
+    heart = bandpass(x - np.mean(x), FS, QualityConfig().band_hz)
+    assert len(q.windows) >= 3
+    for w in q.windows:
+        a, b = int(round(w.start_s * FS)), int(round(w.end_s * FS))
+        energy = frame_energy(heart[a:b], FS)
+        minutes = (b - a) / FS / 60
+        assert w.measures.contrast_db == pytest.approx(contrast_db(energy), abs=1e-12)
+        assert w.measures.periodicity == pytest.approx(periodicity(energy, 50.0), abs=1e-12)
+        assert w.measures.clipping_fraction == clipping_fraction(x[a:b])
+        assert w.measures.spikes_per_min == pytest.approx(despike(heart[a:b], FS)[1] / minutes)
+    assert any(w.measures.spikes_per_min > 0 for w in q.windows)

@@ -4,6 +4,9 @@ Public functions
 ----------------
 bandpass(x, fs, band_hz, order)  zero-phase Butterworth band-pass
 bandpass_sos(fs, band_hz, order) the designed filter, for inspection
+zero_phase(sos, zi, x, padlen)   forward-backward filtering (as scipy.signal.sosfiltfilt)
+welch_psd(x, fs, nperseg)        averaged periodogram (as scipy.signal.welch)
+percentiles(a, q)                np.percentile (linear) by one partial sort
 despike(x, fs, ...)              suppress friction and handling spikes
 detect_hum(x, fs)                mains-hum fundamental (50/60 Hz) or None
 remove_hum(x, fs, hum_hz, ...)   zero-phase notches at the hum and its harmonics
@@ -14,8 +17,10 @@ condition(x, fs, config)         all of the above in order -> Conditioned
 from __future__ import annotations
 
 from dataclasses import dataclass
+from functools import lru_cache
 
 import numpy as np
+import scipy.fft
 from scipy import signal
 
 from eddyphone.errors import ParameterError
@@ -73,21 +78,71 @@ class Conditioned:
 
 
 def bandpass_sos(fs: float, band_hz: tuple[float, float], order: int = 4) -> np.ndarray:
-    """Design the Butterworth band-pass used by :func:`bandpass` (second-order sections)."""
-    low, high = band_hz
+    """Design the Butterworth band-pass used by :func:`bandpass` (second-order sections).
+
+    The design is cached; this returns a writable copy of it.
+    """
+    return _bandpass_design(float(fs), float(band_hz[0]), float(band_hz[1]), int(order))[0].copy()
+
+
+@lru_cache(maxsize=32)
+def _bandpass_design(fs: float, low: float, high: float,
+                     order: int) -> tuple[np.ndarray, np.ndarray]:
+    """Sections and steady-state initial conditions of the band-pass, read-only."""
     nyquist = fs / 2
     if not 0 < low < high:
-        raise ParameterError(f"band {band_hz} Hz: need 0 < low < high")
+        raise ParameterError(f"band {(low, high)} Hz: need 0 < low < high")
     high = min(high, 0.95 * nyquist)
     if low >= high:
-        raise ParameterError(f"band {band_hz} Hz lies above the Nyquist frequency {nyquist:g} Hz")
-    return signal.butter(order, [low, high], btype="bandpass", fs=fs, output="sos")
+        raise ParameterError(f"band {(low, high)} Hz lies above the Nyquist frequency "
+                             f"{nyquist:g} Hz")
+    sos = signal.butter(order, [low, high], btype="bandpass", fs=fs, output="sos")
+    return _frozen(sos), _frozen(signal.sosfilt_zi(sos))
+
+
+def _frozen(a: np.ndarray) -> np.ndarray:
+    a.setflags(write=False)
+    return a
 
 
 def bandpass(x: np.ndarray, fs: float, band_hz: tuple[float, float] = (25.0, 900.0),
              order: int = 4) -> np.ndarray:
     """Zero-phase band-pass: the designed filter applied forward and backward."""
-    return signal.sosfiltfilt(bandpass_sos(fs, band_hz, order), x)
+    sos, zi = _bandpass_design(float(fs), float(band_hz[0]), float(band_hz[1]), int(order))
+    return zero_phase(sos, zi, x)
+
+
+def zero_phase(sos: np.ndarray, zi: np.ndarray, x: np.ndarray,
+               padlen: int | None = None) -> np.ndarray:
+    """Filter ``x`` forward and backward, the same as ``scipy.signal.sosfiltfilt``.
+
+    ``zi`` is ``scipy.signal.sosfilt_zi(sos)``, passed in so a cached design does
+    not recompute it. The ends are padded by odd reflection (``padlen`` samples,
+    by default three times the number of taps, as scipy does).
+    """
+    x = np.asarray(x, dtype=np.float64)
+    if padlen is None:
+        taps = 2 * len(sos) + 1 - min(int(np.sum(sos[:, 2] == 0)), int(np.sum(sos[:, 5] == 0)))
+        padlen = 3 * taps
+    if len(x) <= padlen:
+        raise ParameterError(f"{len(x)} samples are too few to filter (need more than "
+                             f"{padlen})")
+    ext = _odd_extension(x, padlen)
+    sos = np.array(sos)  # scipy's filter loop wants a writable array; a cached one is not
+    y = signal.sosfilt(sos, ext, zi=zi * ext[0])[0]
+    y = signal.sosfilt(sos, y[::-1], zi=zi * y[-1])[0]
+    return np.ascontiguousarray(y[::-1][padlen: len(y) - padlen] if padlen else y[::-1])
+
+
+def _odd_extension(x: np.ndarray, n: int) -> np.ndarray:
+    """``x`` with ``n`` samples reflected through each end point (scipy's odd_ext)."""
+    if n < 1:
+        return x
+    ext = np.empty(len(x) + 2 * n)
+    ext[n: n + len(x)] = x
+    ext[:n] = 2 * x[0] - x[n:0:-1]
+    ext[n + len(x):] = 2 * x[-1] - x[-2: -(n + 2): -1]
+    return ext
 
 
 def despike(x: np.ndarray, fs: float, *, threshold: float = 3.0, window_s: float = 0.5,
@@ -107,9 +162,9 @@ def despike(x: np.ndarray, fs: float, *, threshold: float = 3.0, window_s: float
     if n_win < 3:
         return y, 0
     body = y[: n_win * n].reshape(n_win, n)  # a view: edits land in y
+    peaks = np.max(np.abs(body), axis=1)
     removed = 0
     while removed < max_spikes:
-        peaks = np.max(np.abs(body), axis=1)
         median = np.median(peaks)
         worst = int(np.argmax(peaks))
         if median <= 0 or peaks[worst] <= threshold * median:
@@ -123,6 +178,7 @@ def despike(x: np.ndarray, fs: float, *, threshold: float = 3.0, window_s: float
         start = before[-1] + 1 if before.size else 0
         stop = after[0] + 1 if after.size else n
         row[start:stop] = 0.0
+        peaks[worst] = np.max(np.abs(row))  # only this window changed
         removed += 1
     return y, removed
 
@@ -130,22 +186,81 @@ def despike(x: np.ndarray, fs: float, *, threshold: float = 3.0, window_s: float
 def detect_hum(x: np.ndarray, fs: float, *, prominence_db: float = 8.0) -> float | None:
     """Return 50.0 or 60.0 when that mains line stands out of the spectrum, else None."""
     nperseg = int(min(len(x), 4 * fs))
-    freqs, power = signal.welch(x, fs=fs, nperseg=nperseg)
+    freqs, power = welch_psd(x, fs, nperseg)
+    step_hz = fs / nperseg
     best, best_prominence = None, prominence_db
     for mains in (50.0, 60.0):
         for harmonic in (1, 2, 3):
             f0 = mains * harmonic
             if f0 >= fs / 2:
                 continue
-            line = np.max(power[np.abs(freqs - f0) <= 0.5])
+            # The bins within 8 Hz of f0 (and one more each side), where the tests below look.
+            near = slice(max(0, int((f0 - 8.0) / step_hz) - 1), int((f0 + 8.0) / step_hz) + 2)
+            offset, p = np.abs(freqs[near] - f0), power[near]
+            line = np.max(p[offset <= 0.5])
             # Compare with the loud end of the neighbourhood, so that the comb of
             # beat-rate harmonics of a very regular rhythm is not taken for hum.
-            ring = (np.abs(freqs - f0) >= 1.5) & (np.abs(freqs - f0) <= 8.0)
-            floor = np.percentile(power[ring], 90)
+            floor = percentiles(p[(offset >= 1.5) & (offset <= 8.0)], (90.0,))[0]
             prominence = 10 * np.log10((line + 1e-30) / (floor + 1e-30))
             if prominence > best_prominence:
                 best, best_prominence = mains, prominence
     return best
+
+
+def percentiles(a: np.ndarray, q: tuple[float, ...]) -> list[float]:
+    """``np.percentile(a, q)`` (linear interpolation) of finite values, by one partial sort.
+
+    The same arithmetic as numpy's, without its general set-up.
+    """
+    a = np.ravel(a)
+    n = len(a)
+    if n == 0:
+        return [float("nan")] * len(q)  # as numpy, without its warning
+    pos = [(n - 1) * (p / 100.0) for p in q]
+    below = [min(int(np.floor(x)), n - 1) for x in pos]
+    part = np.partition(a, sorted({k for b in below for k in (b, min(b + 1, n - 1))}))
+    out = []
+    for x, b in zip(pos, below):
+        lo, hi = float(part[b]), float(part[min(b + 1, n - 1)])
+        g, step = x - b, hi - lo
+        out.append(hi - step * (1 - g) if g >= 0.5 else lo + step * g)
+    return out
+
+
+#: Segments transformed at once by :func:`welch_psd` (bounds its memory on long input).
+_WELCH_BLOCK = 32
+
+
+def welch_psd(x: np.ndarray, fs: float, nperseg: int) -> tuple[np.ndarray, np.ndarray]:
+    """One-sided power spectral density by Welch's method, as ``scipy.signal.welch``.
+
+    Periodic Hann window, half-overlapping segments, each segment's mean removed,
+    density scaling (units squared per Hz), mean over segments. Written out because
+    scipy's general version spends most of its time on set-up for short input.
+    """
+    x = np.asarray(x, dtype=np.float64)
+    nperseg = int(nperseg)
+    step = nperseg - nperseg // 2
+    if not 0 < nperseg <= len(x):
+        raise ParameterError(f"nperseg={nperseg} must be between 1 and len(x)={len(x)}")
+    window = _hann(nperseg)
+    n_seg = (len(x) - nperseg) // step + 1
+    segments = np.lib.stride_tricks.sliding_window_view(x, nperseg)[::step][:n_seg]
+    total = np.zeros(nperseg // 2 + 1)
+    for a in range(0, n_seg, _WELCH_BLOCK):
+        block = segments[a: a + _WELCH_BLOCK]
+        block = (block - block.mean(axis=1, keepdims=True)) * window
+        spec = scipy.fft.rfft(block, axis=1)
+        total += np.sum(spec.real ** 2 + spec.imag ** 2, axis=0)
+    # No BLAS call (np.dot) here: on a busy machine its threads can cost milliseconds.
+    power = total * (1.0 / (n_seg * fs * float(np.sum(window * window))))
+    power[1: None if nperseg % 2 else -1] *= 2.0  # both signs of frequency, not DC/Nyquist
+    return np.arange(len(power)) * (fs / nperseg), power
+
+
+@lru_cache(maxsize=8)
+def _hann(n: int) -> np.ndarray:
+    return _frozen(signal.get_window("hann", n))
 
 
 def remove_hum(x: np.ndarray, fs: float, hum_hz: float, *, max_hz: float = 900.0,
@@ -158,10 +273,18 @@ def remove_hum(x: np.ndarray, fs: float, hum_hz: float, *, max_hz: float = 900.0
     y = np.asarray(x, dtype=np.float64)
     harmonic = hum_hz
     while harmonic < min(max_hz, 0.45 * fs):
-        b, a = signal.iirnotch(harmonic, harmonic / width_hz, fs=fs)
-        y = signal.filtfilt(b, a, y)
+        sos, zi = _notch_design(float(harmonic), float(width_hz), float(fs))
+        y = zero_phase(sos, zi, y, padlen=9)  # scipy.signal.filtfilt's padding for a biquad
         harmonic += hum_hz
     return y
+
+
+@lru_cache(maxsize=64)
+def _notch_design(f0: float, width_hz: float, fs: float) -> tuple[np.ndarray, np.ndarray]:
+    """One-section notch at ``f0`` and its steady-state initial conditions, read-only."""
+    b, a = signal.iirnotch(f0, f0 / width_hz, fs=fs)
+    sos = np.concatenate([b, a])[None, :]
+    return _frozen(sos), _frozen(signal.sosfilt_zi(sos))
 
 
 def normalise(x: np.ndarray) -> tuple[np.ndarray, float]:

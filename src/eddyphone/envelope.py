@@ -25,11 +25,13 @@ frame_times
 from __future__ import annotations
 
 from dataclasses import dataclass
+from functools import lru_cache
 
 import numpy as np
 import scipy.fft
 import scipy.signal
 
+from eddyphone.condition import zero_phase
 from eddyphone.errors import InputError, ParameterError
 
 #: Default feature rate in Hz (one frame per 20 ms).
@@ -90,8 +92,10 @@ def _analytic_magnitude(x: np.ndarray) -> np.ndarray:
     spec[0] = 0.0
     if nfft % 2 == 0:
         spec[-1] = 0.0
-    hx = scipy.fft.irfft(spec, nfft)[:n]
-    return np.sqrt(x * x + hx * hx)
+    mag = scipy.fft.irfft(spec, nfft, overwrite_x=True)[:n]
+    mag *= mag
+    mag += x * x
+    return np.sqrt(mag, out=mag)
 
 
 def hilbert_envelope(x: np.ndarray, fs: float, *, feature_fs: float = FEATURE_FS) -> np.ndarray:
@@ -120,11 +124,27 @@ def _lowpass_log(log_env: np.ndarray, frame_fs: float, cutoff_hz: float) -> np.n
     """Zero-phase first-order Butterworth low-pass (bilinear transform, closed form)."""
     if len(log_env) < 16 or cutoff_hz >= frame_fs / 2:
         return log_env
+    sos, zi = _lowpass_design(float(frame_fs), float(cutoff_hz))
+    return zero_phase(sos, zi, log_env, padlen=min(len(log_env) - 1, 12))
+
+
+@lru_cache(maxsize=16)
+def _lowpass_design(frame_fs: float, cutoff_hz: float) -> tuple[np.ndarray, np.ndarray]:
+    """Section and steady-state initial conditions of the low-pass, read-only."""
     k = np.tan(np.pi * cutoff_hz / frame_fs)
     b0 = k / (1.0 + k)
     a1 = (k - 1.0) / (k + 1.0)
     sos = np.array([[b0, b0, 0.0, 1.0, a1, 0.0]])
-    return scipy.signal.sosfiltfilt(sos, log_env, padlen=min(len(log_env) - 1, 12))
+    zi = scipy.signal.sosfilt_zi(sos)
+    sos.setflags(write=False)
+    zi.setflags(write=False)
+    return sos, zi
+
+
+def _log_magnitude(mag: np.ndarray) -> np.ndarray:
+    """``log(mag + tiny)``, in a new array."""
+    out = mag + _TINY
+    return np.log(out, out=out)
 
 
 def homomorphic_envelope(x: np.ndarray, fs: float, *, feature_fs: float = FEATURE_FS,
@@ -142,7 +162,7 @@ def homomorphic_envelope(x: np.ndarray, fs: float, *, feature_fs: float = FEATUR
     """
     hop = _hop(fs, feature_fs)
     x = _check_x(x, hop)
-    log_env = _frame_mean(np.log(_analytic_magnitude(x) + _TINY), hop)
+    log_env = _frame_mean(_log_magnitude(_analytic_magnitude(x)), hop)
     return np.exp(_lowpass_log(log_env, fs / hop, cutoff_hz))
 
 
@@ -167,8 +187,9 @@ def _shannon(x: np.ndarray, hop: int) -> np.ndarray:
     peak = float(np.max(np.abs(x)))
     if peak <= 0:
         return np.zeros(len(x) // hop)
-    sq = (x / peak) ** 2
-    energy = _frame_mean(-sq * np.log(sq + _TINY), hop)
+    sq = x / peak
+    sq *= sq
+    energy = _frame_mean(sq * -_log_magnitude(sq), hop)
     sd = float(energy.std())
     return (energy - energy.mean()) / sd if sd > 0 else energy - energy.mean()
 
@@ -177,31 +198,43 @@ def _frames(x: np.ndarray, hop: int) -> np.ndarray:
     """Hann-windowed frames two hops long centred on each feature frame, (n, 2 hop)."""
     n = len(x) // hop
     width = 2 * hop
-    pad = np.pad(x[: n * hop], (hop // 2, width))
+    pad = np.zeros(n * hop + hop // 2 + width)
+    pad[hop // 2: hop // 2 + n * hop] = x[: n * hop]
     frames = np.lib.stride_tricks.sliding_window_view(pad, width)[: n * hop: hop]
-    return frames * scipy.signal.get_window("hann", width)
+    return frames * _hann(width)
 
 
-def _band_rms(frames: np.ndarray, fs: float, band_hz: tuple[float, float],
-              power: np.ndarray | None = None) -> np.ndarray:
-    """RMS amplitude in a band from the power spectrum of the windowed frames."""
-    width = frames.shape[1]
-    if power is None:
-        power = _power(frames)
-    freqs = np.arange(power.shape[1]) * fs / width
-    sel = (freqs >= band_hz[0]) & (freqs < band_hz[1])
-    if not np.any(sel):
+@lru_cache(maxsize=16)
+def _hann(width: int) -> np.ndarray:
+    window = scipy.signal.get_window("hann", width)
+    window.setflags(write=False)
+    return window
+
+
+def _band_bins(width: int, fs: float, band_hz: tuple[float, float]) -> slice:
+    """The spectrum bins with ``low <= f < high`` (a contiguous run)."""
+    freqs = np.arange(width // 2 + 1) * fs / width
+    sel = np.flatnonzero((freqs >= band_hz[0]) & (freqs < band_hz[1]))
+    if not sel.size:
         raise ParameterError(
             f"band_hz={band_hz} holds no frequency bin at this frame length; widen the band"
         )
-    win_power = np.sum(scipy.signal.get_window("hann", width) ** 2)
+    return slice(int(sel[0]), int(sel[-1]) + 1)
+
+
+def _band_rms(spec: np.ndarray, width: int, fs: float,
+              band_hz: tuple[float, float]) -> np.ndarray:
+    """RMS amplitude in a band from the spectrum of Hann-windowed frames ``width`` long."""
+    band = spec[:, _band_bins(width, fs, band_hz)]
+    power = np.sum(band.real ** 2 + band.imag ** 2, axis=1)
+    win = _hann(width)
     # One-sided bins count twice (positive and negative frequency).
-    return np.sqrt(2.0 * power[:, sel].sum(axis=1) / (width * win_power))
+    return np.sqrt(2.0 * power / (width * float(np.sum(win * win))))
 
 
-def _power(frames: np.ndarray) -> np.ndarray:
-    spec = scipy.fft.rfft(frames, axis=1)
-    return spec.real ** 2 + spec.imag ** 2
+def _frame_spectra(x: np.ndarray, hop: int) -> np.ndarray:
+    """Spectra of the Hann-windowed frames of :func:`_frames`, (n, hop + 1)."""
+    return scipy.fft.rfft(_frames(x, hop), axis=1, overwrite_x=True)
 
 
 def band_envelope(x: np.ndarray, fs: float, band_hz: tuple[float, float] = LOW_BAND_HZ, *,
@@ -225,7 +258,7 @@ def band_envelope(x: np.ndarray, fs: float, band_hz: tuple[float, float] = LOW_B
         raise ParameterError(f"band_hz={band_hz} must satisfy 0 <= low < high <= fs/2")
     hop = _hop(fs, feature_fs)
     x = _check_x(x, hop)
-    return _band_rms(_frames(x, hop), fs, band_hz)
+    return _band_rms(_frame_spectra(x, hop), 2 * hop, fs, band_hz)
 
 
 @dataclass(frozen=True, eq=False)
@@ -282,16 +315,15 @@ def envelopes(x: np.ndarray, fs: float, *, feature_fs: float = FEATURE_FS,
     frame_fs = fs / hop
     mag = _analytic_magnitude(x)
     hil = _frame_mean(mag, hop)
-    log_env = _frame_mean(np.log(mag + _TINY), hop)
+    log_env = _frame_mean(_log_magnitude(mag), hop)
     homo = np.exp(_lowpass_log(log_env, frame_fs, cutoff_hz))
-    frames = _frames(x, hop)
-    power = _power(frames)
+    spec = _frame_spectra(x, hop)
     mid_hi = min(MID_BAND_HZ[1], fs / 2)
     return Envelopes(
         homomorphic=homo,
         hilbert=hil,
         shannon=_shannon(x, hop),
-        low_band=_band_rms(frames, fs, LOW_BAND_HZ, power),
-        mid_band=_band_rms(frames, fs, (MID_BAND_HZ[0], mid_hi), power),
+        low_band=_band_rms(spec, 2 * hop, fs, LOW_BAND_HZ),
+        mid_band=_band_rms(spec, 2 * hop, fs, (MID_BAND_HZ[0], mid_hi)),
         feature_fs=frame_fs,
     )

@@ -15,7 +15,14 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from eddyphone.condition import bandpass, despike, detect_hum
+from eddyphone.condition import bandpass, despike, detect_hum, percentiles
+
+#: Frame length in seconds of the energy envelope behind contrast and periodicity.
+_FRAME_S = 0.02
+#: Window length in seconds and peak-to-median threshold of the spike count
+#: (:func:`eddyphone.condition.despike`'s defaults).
+_SPIKE_WINDOW_S = 0.5
+_SPIKE_THRESHOLD = 3.0
 
 
 @dataclass(frozen=True)
@@ -132,15 +139,17 @@ def clipping_fraction(x: np.ndarray) -> float:
     Clipped audio flattens at its extreme value; an unclipped signal reaches its
     peak in isolated samples.
     """
-    peak = float(np.max(np.abs(x)))
+    mag = np.abs(x)
+    peak = float(np.max(mag))
     if peak <= 0:
         return 0.0
-    at_peak = np.abs(x) >= 0.999 * peak
-    runs = at_peak[1:] & at_peak[:-1]
-    flagged = np.zeros_like(at_peak)
-    flagged[1:] |= runs
-    flagged[:-1] |= runs
-    return float(np.mean(flagged))
+    at_peak = np.flatnonzero(mag >= 0.999 * peak)
+    # A sample is flagged when a neighbour is also at the peak level.
+    joined = np.diff(at_peak) == 1
+    flagged = np.zeros(len(at_peak), dtype=bool)
+    flagged[1:] |= joined
+    flagged[:-1] |= joined
+    return int(np.count_nonzero(flagged)) / len(mag)
 
 
 def frame_energy(x: np.ndarray, fs: float, frame_s: float = 0.02) -> np.ndarray:
@@ -156,7 +165,7 @@ def contrast_db(energy: np.ndarray) -> float:
     Between heart sounds a clean recording is nearly silent, so the ratio
     estimates the signal-to-noise ratio of the heart sounds.
     """
-    loud, quiet = np.percentile(energy, [95, 10])
+    loud, quiet = percentiles(energy, (95.0, 10.0))
     return float(10 * np.log10((loud + 1e-20) / (quiet + 1e-20)))
 
 
@@ -169,16 +178,16 @@ def periodicity(energy: np.ndarray, frame_fs: float, *, min_bpm: float = 40.0,
     """
     env = np.log(energy + 1e-12 * (np.max(energy) + 1e-30))
     env = env - np.mean(env)
-    denom = float(np.dot(env, env))
+    denom = float(np.sum(env * env))  # not np.dot: BLAS threads are slow on a busy machine
+    n = len(env)
     lo = int(np.floor(frame_fs * 60.0 / max_bpm))
-    hi = min(int(np.ceil(frame_fs * 60.0 / min_bpm)), len(env) - 2)
+    hi = min(int(np.ceil(frame_fs * 60.0 / min_bpm)), n - 2)
     if denom <= 0 or hi <= lo:
         return 0.0
-    spectrum = np.fft.rfft(env, n=2 * len(env))
-    acf = np.fft.irfft(spectrum * np.conj(spectrum))[: len(env)]
-    acf = acf / denom
-    acf = acf * len(env) / (len(env) - np.arange(len(env)))  # unbiased: undo lag taper
-    return float(np.clip(np.max(acf[lo: hi + 1]), 0.0, 1.0))
+    spectrum = np.fft.rfft(env, n=2 * n)
+    acf = np.fft.irfft(spectrum * np.conj(spectrum))[lo: hi + 1] / denom
+    acf = acf * n / (n - np.arange(lo, hi + 1))  # unbiased: undo the lag taper
+    return float(np.clip(np.max(acf), 0.0, 1.0))
 
 
 def _ramp(value: float, poor: float, good: float) -> float:
@@ -208,16 +217,54 @@ def _score(m: QualityMeasures, config: QualityConfig) -> tuple[float, tuple[str,
     return score, tuple(reasons)
 
 
-def _measure(raw: np.ndarray, heart: np.ndarray, fs: float,
-             hum_hz: float | None) -> QualityMeasures:
-    frame_s = 0.02
-    energy = frame_energy(heart, fs, frame_s)
-    _, spikes = despike(heart, fs)
-    minutes = len(heart) / fs / 60.0
+@dataclass(frozen=True, eq=False)
+class _Prepared:
+    """Whole-recording arrays the per-window measures are sliced from."""
+
+    raw: np.ndarray
+    heart: np.ndarray
+    energy: np.ndarray  # frame energy of ``heart`` in _FRAME_S frames
+    peaks: np.ndarray  # peak |heart| in _SPIKE_WINDOW_S windows
+    fs: float
+    frame_n: int
+    spike_n: int
+
+
+def _prepare(raw: np.ndarray, heart: np.ndarray, fs: float) -> _Prepared:
+    frame_n = max(1, int(round(_FRAME_S * fs)))
+    spike_n = int(round(_SPIKE_WINDOW_S * fs))
+    m = len(heart) // spike_n
+    peaks = np.max(np.abs(heart[: m * spike_n]).reshape(m, spike_n), axis=1)
+    return _Prepared(raw, heart, frame_energy(heart, fs, _FRAME_S), peaks, fs, frame_n, spike_n)
+
+
+def _span(grid: np.ndarray, n: int, a: int, b: int) -> np.ndarray | None:
+    """The entries of ``grid`` (one per ``n`` samples) covering ``[a, b)``, if aligned."""
+    return grid[a // n: a // n + (b - a) // n] if a % n == 0 else None
+
+
+def _spike_count(heart: np.ndarray, fs: float, peaks: np.ndarray | None) -> int:
+    """Number of spikes :func:`despike` removes, without running it when none stands out."""
+    if peaks is not None:
+        median = np.median(peaks) if len(peaks) >= 3 else 0.0
+        if median <= 0 or np.max(peaks) <= _SPIKE_THRESHOLD * median:
+            return 0  # the first test despike makes: nothing to remove
+    return despike(heart, fs, threshold=_SPIKE_THRESHOLD, window_s=_SPIKE_WINDOW_S)[1]
+
+
+def _measure(prep: _Prepared, a: int, b: int, hum_hz: float | None,
+             clipping: float | None = None) -> QualityMeasures:
+    """Measures of samples ``[a, b)``, sliced from ``prep`` where the grids align."""
+    heart = prep.heart[a:b]
+    energy = _span(prep.energy, prep.frame_n, a, b)
+    if energy is None:
+        energy = frame_energy(heart, prep.fs, _FRAME_S)
+    spikes = _spike_count(heart, prep.fs, _span(prep.peaks, prep.spike_n, a, b))
+    minutes = len(heart) / prep.fs / 60.0
     return QualityMeasures(
         contrast_db=contrast_db(energy),
-        periodicity=periodicity(energy, 1.0 / frame_s),
-        clipping_fraction=clipping_fraction(raw),
+        periodicity=periodicity(energy, 1.0 / _FRAME_S),
+        clipping_fraction=clipping_fraction(prep.raw[a:b]) if clipping is None else clipping,
         spikes_per_min=spikes / minutes if minutes > 0 else 0.0,
         hum_hz=hum_hz,
     )
@@ -247,12 +294,12 @@ def assess(x: np.ndarray, fs: float, config: QualityConfig | None = None, *,
     centred = raw - np.mean(raw)
     if hum_hz == _DETECT:
         hum_hz = detect_hum(centred, fs)
-    heart = bandpass(centred, fs, config.band_hz)
-    overall = _measure(raw, heart, fs, hum_hz)
+    prep = _prepare(raw, bandpass(centred, fs, config.band_hz), fs)
+    overall = _measure(prep, 0, len(raw), hum_hz)
     _, reasons = _score(overall, config)
     windows = []
     for a, b in _window_bounds(len(raw), fs, config.window_s):
-        m = _measure(raw[a:b], heart[a:b], fs, hum_hz)
+        m = _measure(prep, a, b, hum_hz)
         w_score, w_reasons = _score(m, config)
         windows.append(QualityWindow(a / fs, b / fs, w_score, w_score >= config.usable_threshold,
                                      w_reasons, m))
@@ -260,13 +307,13 @@ def assess(x: np.ndarray, fs: float, config: QualityConfig | None = None, *,
     # rhythm that is regular within windows but varies across them is not penalised.
     score = float(np.average([w.score for w in windows],
                              weights=[w.end_s - w.start_s for w in windows]))
-    return Quality(score, score >= config.usable_threshold, reasons, _warnings(raw),
-                   overall, tuple(windows), config.usable_threshold)
+    return Quality(score, score >= config.usable_threshold, reasons,
+                   _warnings(raw, overall.clipping_fraction), overall, tuple(windows),
+                   config.usable_threshold)
 
 
-def _warnings(raw: np.ndarray) -> tuple[str, ...]:
+def _warnings(raw: np.ndarray, clip: float) -> tuple[str, ...]:
     out = []
-    clip = clipping_fraction(raw)
     if clip > 0.001:
         out.append(f"clipping: {100 * clip:.2f} % of samples sit flat at the peak level")
     std = float(np.std(raw))
