@@ -22,8 +22,8 @@ from eddyphone.findings.config import PITCH_BOUNDARIES_HZ, TIMING_THIRDS
 from eddyphone.findings.grade import MAX_AUDIO_GRADE, grade_range
 from eddyphone.findings.measures import beat_windows, spectrogram
 from eddyphone.findings.murmur import (
+    noise_relative_centroid_hz,
     pitch_word,
-    relative_pitch_word,
     shape_word,
     timing_word,
 )
@@ -87,25 +87,34 @@ def test_grade_never_above_three_from_sound():
     assert grade_range(0.0) == (2, 3)
 
 
-def test_relative_pitch_cancels_a_device_tilt():
-    # the same murmur and heart sounds seen through a strong low-pass tilt: the
-    # absolute centroid falls, the ratio to the heart sounds' centroid much less
-    # (centroids computed by librosa on white noise shaped by each response)
+def test_noise_relative_pitch_cancels_a_device_tilt():
+    # a murmur band 150-600 Hz standing 10 dB over a flat noise floor, recorded
+    # through no tilt and through a -12 dB/octave tilt (murmur and floor alike)
+    f = np.linspace(25.0, 900.0, 400)
+    band = (f >= 150.0) & (f < 600.0)
+    # expected: exp of the mean of ln f over the band on a linear frequency grid, in
+    # closed form from the integral of ln f (calculus; the same at every tilt)
+    a, b = 150.0, 600.0
+    expected = np.exp((b * np.log(b) - b - a * np.log(a) + a) / (b - a))
+    for tilt_db_per_oct in (0.0, -12.0, -35.0):
+        gain = 10 ** (tilt_db_per_oct * np.log2(f / 25.0) / 10)
+        noise = np.ones_like(f) * gain
+        excess = np.where(band, 9.0, 0.0) * gain  # +10 dB over the floor
+        got = noise_relative_centroid_hz(f, excess, noise, width_oct=1e-6)
+        assert got == pytest.approx(expected, rel=0.01)
+    # while the plain spectral centroid of the tilted murmur (librosa) falls
     rng = np.random.default_rng(3)
     n = int(FS)
-
-    def centroid(lo, hi, tilt_db_per_oct):
-        f = np.fft.rfftfreq(n, 1 / FS)
-        spec = np.fft.rfft(rng.standard_normal(n)) * ((f >= lo) & (f < hi))
-        spec *= 10 ** (tilt_db_per_oct * np.log2(np.maximum(f, 25.0) / 25.0) / 20)
-        y = np.fft.irfft(spec, n)
-        return float(librosa.feature.spectral_centroid(y=y, sr=int(FS), n_fft=n,
-                                                       hop_length=n, center=False)[0, 0])
-
+    fr = np.fft.rfftfreq(n, 1 / FS)
+    spec = np.fft.rfft(rng.standard_normal(n)) * ((fr >= 150) & (fr < 600))
+    plain = []
     for tilt in (0.0, -12.0):
-        hs, mur = centroid(30, 150, tilt), centroid(150, 600, tilt)
-        assert relative_pitch_word(mur, hs) == "high"
-    assert pitch_word(centroid(150, 600, -12.0)) != "high"  # the absolute rule is fooled
+        y = np.fft.irfft(spec * 10 ** (tilt * np.log2(np.maximum(fr, 25.0) / 25.0) / 20), n)
+        plain.append(float(librosa.feature.spectral_centroid(
+            y=y, sr=int(FS), n_fft=n, hop_length=n, center=False)[0, 0]))
+    assert plain[1] < 0.8 * plain[0]
+    # no murmur above the floor: no pitch
+    assert np.isnan(noise_relative_centroid_hz(f, np.zeros_like(f), np.ones_like(f)))
 
 
 def test_shape_words():

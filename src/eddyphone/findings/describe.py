@@ -8,7 +8,7 @@ import numpy as np
 
 from eddyphone.errors import InputError
 from eddyphone.findings.boundaries import refine_s2_onsets
-from eddyphone.findings.config import FindingsConfig
+from eddyphone.findings.config import PITCH_BOUNDARIES_HZ, FindingsConfig
 from eddyphone.findings.measures import (
     MIN_WINDOW_S,
     analysis_frame_s,
@@ -119,7 +119,8 @@ def describe(x: np.ndarray, fs: float, segmentation, *, quality=None,
 def _resolve_extra_vs_murmur(murmurs, extras):
     """Decide between a diastolic murmur and an S3/S4 found at the same place.
 
-    A short (at most 40 % of diastole), low-pitched early-diastolic excess where an
+    A short (at most 40 % of diastole), low-pitched (or, in plain Hz, below the
+    low-pitch edge) early-diastolic excess where an
     S3 was found is the S3, not a murmur; likewise late-diastolic with an S4. A
     longer diastolic murmur keeps its place and the S3/S4 is not reported (an
     inflow murmur's presystolic accent looks like an S4).
@@ -130,7 +131,11 @@ def _resolve_extra_vs_murmur(murmurs, extras):
     keep, notes, drop_sounds = [], [], set()
     for m in murmurs:
         if m.phase in ("diastolic", "continuous"):
-            short_low = (m.pitch == "low" and m.phase == "diastolic"
+            # low: by the pitch word, or by its plain spectrum (the pitch word can
+            # read the broadband edges of a transient as high where the floor is
+            # very low, as behind a strongly tilted chest piece)
+            low = m.pitch == "low" or m.centroid_hz < PITCH_BOUNDARIES_HZ[0]
+            short_low = (low and m.phase == "diastolic"
                          and m.end_fraction - m.onset_fraction <= 0.4)
             if short_low and "S3" in kinds and m.onset_fraction <= 0.34:
                 notes.append("a short low-pitched early-diastolic excess is the S3")

@@ -37,7 +37,7 @@ find_murmurs(spec, profiles, config) -> MurmurSearch
 timing_word(onset_fraction, end_fraction) -> str
 shape_word(profile_db) -> str
 pitch_word(centroid_hz) -> str
-relative_pitch_word(centroid_hz, heart_sound_centroid_hz) -> str
+noise_relative_centroid_hz(f_hz, excess, noise) -> float
 quality_words(...) -> tuple of str
 """
 
@@ -49,7 +49,7 @@ import numpy as np
 
 from eddyphone.findings.config import (
     PITCH_BOUNDARIES_HZ,
-    PITCH_OCTAVES_RE_HEART_SOUNDS,
+    PITCH_BOUNDARIES_RE_NOISE_HZ,
     FindingsConfig,
 )
 from eddyphone.findings.grade import grade_range
@@ -114,11 +114,10 @@ EXTENT_DB = 15.0
 #: at the extent threshold is about a quarter frame, not half (our own setting).
 EDGE_SMEAR_FRAMES = 0.25
 
-#: When the recording's own S1/S2 centroid lies below this (Hz), the device or
-#: chest wall is tilting the spectrum hard (S1/S2 normally spread over 25-150 Hz,
-#: common practice) and pitch is judged relative to the heart sounds instead of on
-#: the absolute boundaries. Our own switch, checked on the simulator benchmark.
-TILTED_HEART_SOUNDS_HZ = 55.0
+#: Smoothing (octaves) of the murmur and noise-floor spectra before the pitch
+#: measure (:func:`noise_relative_centroid_hz`): third octaves, about the ear's
+#: critical bands at these frequencies (common practice).
+PITCH_SMOOTHING_OCT = 1.0 / 3.0
 
 #: Envelope roughness (fast fluctuation re mean) from which a murmur is harsh. Our
 #: own threshold, checked on simulated murmurs: regurgitant ones measure 0.12-0.18,
@@ -196,25 +195,6 @@ def pitch_word(centroid_hz: float, boundaries_hz: tuple[float, float] = PITCH_BO
     if centroid_hz < lo:
         return "low"
     return "medium" if centroid_hz < hi else "high"
-
-
-def relative_pitch_word(centroid_hz: float, heart_sound_centroid_hz: float,
-                        octaves: tuple[float, float] = PITCH_OCTAVES_RE_HEART_SOUNDS) -> str:
-    """'low', 'medium' or 'high' from the murmur's centroid relative to that of the
-    same recording's S1/S2 (see :data:`~eddyphone.findings.config.PITCH_OCTAVES_RE_HEART_SOUNDS`).
-
-    Examples
-    --------
-    >>> relative_pitch_word(60.0, 50.0), relative_pitch_word(80.0, 50.0)
-    ('low', 'medium')
-    >>> relative_pitch_word(120.0, 50.0)
-    'high'
-    """
-    up = np.log2(max(centroid_hz, 1e-9) / max(heart_sound_centroid_hz, 1e-9))
-    lo, hi = octaves
-    if up < lo:
-        return "low"
-    return "medium" if up < hi else "high"
 
 
 def quality_words(*, pitch: str, tonality: float, relative_spread: float, roughness: float,
@@ -420,7 +400,9 @@ def _spectral(spec: Spectrogram, prof: Profiles, use: np.ndarray, w: int, k0: in
     total = excess.sum()
     if total <= 0:
         return {"centroid_hz": float("nan"), "dominant_hz": float("nan"), "spread": 0.0,
-                "tonality": 0.0, "excess": excess}
+                "tonality": 0.0, "excess": excess, "noise_relative_hz": float("nan")}
+    noise_rel = noise_relative_centroid_hz(f[band], excess[band],
+                                           np.median(np.array(quiet_spectra), axis=0)[band])
     smooth = np.convolve(excess, np.ones(3) / 3.0, mode="same")
     k = int(np.argmax(smooth))
     centroid = float(np.sum(f * excess) / total)
@@ -432,7 +414,35 @@ def _spectral(spec: Spectrogram, prof: Profiles, use: np.ndarray, w: int, k0: in
     base = min(3.0 / n_eff * 3.0, 0.6)
     tonality = float(np.clip((share - base) / (0.85 - base), 0.0, 1.0))
     return {"centroid_hz": centroid, "dominant_hz": float(f[k]), "spread": spread,
-            "tonality": tonality, "excess": excess}
+            "tonality": tonality, "excess": excess, "noise_relative_hz": noise_rel}
+
+
+def _octave_smooth(f: np.ndarray, p: np.ndarray, width_oct: float) -> np.ndarray:
+    """Mean of ``p`` over a ``width_oct``-wide band centred (in octaves) on each ``f``."""
+    lf = np.log2(np.maximum(f, 1e-9))
+    out = np.empty_like(p, dtype=float)
+    for i, c in enumerate(lf):
+        out[i] = p[np.abs(lf - c) <= 0.5 * width_oct].mean()
+    return out
+
+
+def noise_relative_centroid_hz(f_hz: np.ndarray, excess: np.ndarray, noise: np.ndarray,
+                               width_oct: float = PITCH_SMOOTHING_OCT) -> float:
+    """Where a murmur stands out of the recording's own noise floor, in Hz.
+
+    Log-frequency centroid of ``excess`` (murmur power above the floor) weighted
+    by how many dB it stands over ``noise`` (the quiet parts of the same beats),
+    both smoothed over ``width_oct`` octaves. Murmur and floor pass through the
+    same stethoscope, so a device tilt scales both alike and cancels; NaN when the
+    murmur nowhere stands over the floor.
+    """
+    f = np.asarray(f_hz, dtype=float)
+    m = _octave_smooth(f, np.asarray(excess, dtype=float), width_oct)
+    q = np.maximum(_octave_smooth(f, np.asarray(noise, dtype=float), width_oct), 1e-30)
+    w = np.clip(10.0 * np.log10(np.maximum(m, 1e-30) / q), 0.0, None)
+    if not np.any(w > 0):
+        return float("nan")
+    return float(np.exp(np.sum(w * np.log(np.maximum(f, 1e-9))) / np.sum(w)))
 
 
 def _accent(profile: np.ndarray, rise_db: float = 1.5, floor: float = 0.3) -> bool:
@@ -445,12 +455,6 @@ def _accent(profile: np.ndarray, rise_db: float = 1.5, floor: float = 0.3) -> bo
     if len(mid) == 0 or len(tail) == 0 or mid.min() <= 0 or tail.max() < floor:
         return False
     return bool(10.0 * np.log10(tail.max() / mid.min()) >= rise_db)
-
-
-def _centroid_of(f: np.ndarray, p: np.ndarray, fs: float) -> float:
-    sel = (f >= 25.0) & (f <= min(900.0, 0.45 * fs))
-    tot = float(np.sum(p[sel]))
-    return float(np.sum(f[sel] * p[sel]) / tot) if tot > 0 else float("nan")
 
 
 def _roughness(spec: Spectrogram, prof: Profiles, use: np.ndarray, w: int, k0: int, k1: int,
@@ -691,13 +695,9 @@ def find_murmurs(spec: Spectrogram, prof: Profiles, config: FindingsConfig) -> M
         sp = _spectral(spec, prof, use, c.window, c.k0, c.k1, quiet, n_bins, fs)
         rough = _roughness(spec, prof, use, c.window, c.k0, c.k1, c.bands, n_bins)
         centroid = sp["centroid_hz"]
-        hs_c = _centroid_of(spec.f, np.median(prof.hs_spectrum[use], axis=0), fs)
-        if not np.isfinite(centroid):
-            pitch = "medium"
-        elif np.isfinite(hs_c) and hs_c < TILTED_HEART_SOUNDS_HZ:
-            pitch = relative_pitch_word(centroid, hs_c)
-        else:
-            pitch = pitch_word(centroid)
+        rel_hz = sp["noise_relative_hz"]
+        pitch = (pitch_word(rel_hz, PITCH_BOUNDARIES_RE_NOISE_HZ) if np.isfinite(rel_hz)
+                 else "medium")
         rel_spread = sp["spread"] / centroid if np.isfinite(centroid) and centroid > 0 else 0.0
         words = quality_words(pitch=pitch, tonality=sp["tonality"], relative_spread=rel_spread,
                               roughness=rough, tonal_threshold=cfg.tonal_threshold,

@@ -48,8 +48,10 @@ class Murmur:
     shape : {'crescendo', 'decrescendo', 'crescendo-decrescendo', 'plateau'}
     shape_confidence : float
     pitch : {'low', 'medium', 'high'}
-        From ``centroid_hz`` relative to the S1/S2 centroid of the same recording
-        (``findings.config.PITCH_OCTAVES_RE_HEART_SOUNDS``).
+        From where the murmur stands out of the same recording's noise floor
+        (``findings.murmur.noise_relative_centroid_hz`` on
+        ``findings.config.PITCH_BOUNDARIES_RE_NOISE_HZ``), which a device tilt
+        does not move.
     dominant_frequency_hz, centroid_hz : float
         Peak and centroid of the murmur's excess spectrum (above the noise floor).
     quality_words : tuple of str
