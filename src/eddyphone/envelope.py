@@ -189,7 +189,9 @@ def _shannon(x: np.ndarray, hop: int) -> np.ndarray:
         return np.zeros(len(x) // hop)
     sq = x / peak
     sq *= sq
-    energy = _frame_mean(sq * -_log_magnitude(sq), hop)
+    shannon = _log_magnitude(sq)
+    shannon *= sq
+    energy = -_frame_mean(shannon, hop)  # -x^2 log x^2 averaged (negating is exact)
     sd = float(energy.std())
     return (energy - energy.mean()) / sd if sd > 0 else energy - energy.mean()
 
@@ -211,6 +213,7 @@ def _hann(width: int) -> np.ndarray:
     return window
 
 
+@lru_cache(maxsize=32)
 def _band_bins(width: int, fs: float, band_hz: tuple[float, float]) -> slice:
     """The spectrum bins with ``low <= f < high`` (a contiguous run)."""
     freqs = np.arange(width // 2 + 1) * fs / width
@@ -225,7 +228,7 @@ def _band_bins(width: int, fs: float, band_hz: tuple[float, float]) -> slice:
 def _band_rms(spec: np.ndarray, width: int, fs: float,
               band_hz: tuple[float, float]) -> np.ndarray:
     """RMS amplitude in a band from the spectrum of Hann-windowed frames ``width`` long."""
-    band = spec[:, _band_bins(width, fs, band_hz)]
+    band = spec[:, _band_bins(width, float(fs), (float(band_hz[0]), float(band_hz[1])))]
     power = np.sum(band.real ** 2 + band.imag ** 2, axis=1)
     win = _hann(width)
     # One-sided bins count twice (positive and negative frequency).
