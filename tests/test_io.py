@@ -182,6 +182,10 @@ def _bad_inputs(tmp_path):
     cases["silent"] = (tmp_path / "silent.wav", "silent or constant")
     sf.write(tmp_path / "constant.wav", np.full(16000, 0.25), 4000, subtype="FLOAT")
     cases["constant"] = (tmp_path / "constant.wav", "silent or constant")
+    blip = np.zeros(16000)
+    blip[8000] = 5e-6  # peak-to-peak above 1e-7 but standard deviation 4e-8 below it
+    sf.write(tmp_path / "blip.wav", blip, 4000, subtype="DOUBLE")
+    cases["one faint blip"] = (tmp_path / "blip.wav", "silent or constant")
     nan = burst_train(duration_s=4.0)
     nan[100] = np.nan
     sf.write(tmp_path / "nan.wav", nan, 4000, subtype="FLOAT")
@@ -209,3 +213,11 @@ def test_segments_csv_round_trip(tmp_path):
     path = write_segments_csv(tmp_path / "s.csv", rows)
     assert path.read_text().splitlines()[0] == "start_s,end_s,label"
     assert read_segments_csv(path) == [(0.1, 0.2, "S2"), (0.5, 0.6, "S1")]
+
+
+def test_faint_but_real_signal_is_not_called_silent():
+    # Standard deviation 2e-7 (above the 1e-7 floor) with a peak-to-peak well under the
+    # shortcut's bound: the full standard deviation decides.
+    x = 2e-7 * np.sign(np.sin(2 * np.pi * 30 * np.arange(16000) / 4000 + 0.1))
+    assert np.std(x) == pytest.approx(2e-7, rel=1e-3)
+    assert len(from_array(x, 4000).x) == 16000

@@ -27,15 +27,16 @@ def decode_audio(path: Path) -> tuple[np.ndarray, float, str, str]:
     import soundfile as sf
 
     try:
-        info = sf.info(str(path))
-        x, fs = sf.read(str(path), dtype="float64", always_2d=True)
+        with sf.SoundFile(str(path)) as fh:  # one open for the description and the samples
+            fs, fmt, subtype = fh.samplerate, fh.format, fh.subtype
+            x = fh.read(dtype="float64", always_2d=True)
     except (RuntimeError, sf.LibsndfileError, TypeError, ValueError) as exc:
         raise InputError(
             str(path),
             f"not a readable audio file ({_short(exc)})",
             "check that it is a WAV, FLAC, OGG or MP3 recording and re-export it if it is damaged",
         ) from None
-    return x, float(fs), info.format, info.subtype
+    return x, float(fs), fmt, subtype
 
 
 def _decode_with_ffmpeg(path: Path) -> tuple[np.ndarray, float, str, str]:

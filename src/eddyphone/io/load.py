@@ -125,7 +125,7 @@ def _build(frames: np.ndarray, fs: float, *, source: str, fmt: str, subtype: str
                          f"choose a channel from 0 to {n_channels - 1}")
     x = frames[:, channel]
     x = x - 0.0  # copy out of the frames array
-    if np.ptp(x) <= 1e-7 or np.std(x) < 1e-7:
+    if _silent(x):
         raise InputError(source, "the signal is silent or constant",
                          "check the stethoscope was on and in contact, and record again")
     if fs != ANALYSIS_FS:
@@ -146,6 +146,18 @@ def _build(frames: np.ndarray, fs: float, *, source: str, fmt: str, subtype: str
         patient=_opt_str(meta.get("patient")),
         metadata={k: v for k, v in meta.items() if k not in _META_KEYS},
     )
+
+
+def _silent(x: np.ndarray, floor: float = 1e-7) -> bool:
+    """Peak-to-peak or standard deviation at most ``floor``: nothing was recorded."""
+    span = float(np.ptp(x))
+    if span <= floor:
+        return True
+    # The two extreme samples alone give a standard deviation of at least
+    # span / sqrt(2 n); well above the floor, the full computation is not needed.
+    if span >= 2.0 * floor * np.sqrt(2.0 * len(x)):
+        return False
+    return float(np.std(x)) < floor
 
 
 def _loudest_heart_channel(frames: np.ndarray, fs: float) -> int:
