@@ -351,12 +351,15 @@ def _candidates(M: np.ndarray, active: np.ndarray, X: np.ndarray, dur_s: np.ndar
         # absolute durations, shortened in short windows (fast rates)
         if e - s < 2 or (e - s) * bin_s < min(cfg.min_murmur_s, 0.4 * dur_s[w]):
             continue
-        prof = X[w, s:e]
-        sustained_s = int(np.sum(prof >= 0.25 * prof.max())) * bin_s
         # bands that carry it (within 15 dB of its strongest band); nothing above
         # 150 Hz means it sounds like S3, S4 or a sound tail
         peak_b = M[w][bands][:, s:e].max(axis=1)
         bands = [b for b, pk in zip(bands, peak_b) if pk >= peak_b.max() - 15.0]
+        # how long it stays within 6 dB of its peak, on its excess in dB averaged
+        # over those bands (a power sum lets one loud band and bin, such as a heart
+        # sound's tail at the window's edge, make a long murmur look short)
+        mdb = M[w][bands][:, s:e].mean(axis=0)
+        sustained_s = int(np.sum(mdb >= mdb.max() - 6.0)) * bin_s
         low_only = max(bands) <= 1
         need = (min(cfg.min_low_murmur_s, 0.5 * dur_s[w]) if low_only
                 else min(cfg.min_sustained_s, 0.25 * dur_s[w]))
@@ -566,6 +569,9 @@ def find_murmurs(spec: Spectrogram, prof: Profiles, config: FindingsConfig) -> M
     quiet = np.ones((2, n_bins), dtype=bool)
     for c in cands:
         quiet[c.window, max(c.k0 - 1, 0): c.k1 + 1] = False
+    # ... nor where anything else stands out (a transient set aside as too short
+    # would otherwise raise every beat's quiet reference)
+    quiet &= M.max(axis=1) < cfg.excess_db
     if quiet.sum() < 3:
         quiet = M.max(axis=1) < np.percentile(M.max(axis=1), 40)
 
