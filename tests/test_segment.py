@@ -267,3 +267,43 @@ def test_silence_and_short_input_give_empty_but_valid_results():
     short = segment(np.random.default_rng(2).normal(size=8000), 4000.0)
     assert short.skipped[0][2] == "usable stretch shorter than 2.5 s"
     json.dumps(short.to_dict(), allow_nan=False)
+
+
+# --- beats table and doubtful beats ---------------------------------------------------
+
+def test_beat_whose_s1_is_cut_by_the_stretch_start_is_left_out():
+    from eddyphone.segment.beats import Segment, beats_from_segments
+
+    # hand-made cycle: an S1 cut by the start (0.0), then one whole beat
+    rows = [(0.0, 0.05, "S1"), (0.05, 0.3, "systole"), (0.3, 0.4, "S2"), (0.4, 0.8, "diastole"),
+            (0.8, 0.92, "S1"), (0.92, 1.1, "systole"), (1.1, 1.2, "S2"), (1.2, 1.6, "diastole"),
+            (1.6, 1.72, "S1")]
+    segs = [Segment(a, b, lab) for a, b, lab in rows]
+    kept = beats_from_segments(segs, [1.0] * len(segs), cut_onsets_s=[0.0])
+    assert [b.s1_onset_s for b in kept] == [0.8]
+    assert kept[0].rr_s == pytest.approx(0.8)
+    assert len(beats_from_segments(segs, [1.0] * len(segs))) == 2
+
+
+def test_doubtful_beat_folded_only_in_irregular_rhythm():
+    from eddyphone.segment import _prune_doubtful_beats
+
+    def cycle(rr_frames: list[int], weak: int) -> tuple[list, list]:
+        segs, scores, t = [], [], 0
+        for i, rr in enumerate(rr_frames):
+            for k, d in zip((0, 1, 2, 3), (6, 12, 5, rr - 23), strict=True):
+                segs.append((t, t + d, k))
+                scores.append(0.5 if i == weak and k in (0, 2) else 0.95)
+                t += d
+        return segs, scores
+
+    cfg = SegmentConfig()
+    irregular = [40, 70, 30, 55, 80, 35, 60, 45]  # RR coefficient of variation about 0.3
+    segs, scores = cycle(irregular, weak=3)
+    out, out_scores = _prune_doubtful_beats(segs, scores, cfg)
+    assert len(out) == len(segs) - 4 and len(out_scores) == len(out)
+    merged = [s for s in out if s[2] == 3 and s[1] - s[0] > 60]
+    assert merged and merged[0][0] == segs[11][0] and merged[0][1] == segs[15][1]
+    # the same weak beat in a steady rhythm is kept: the duration laws vouch for it
+    segs, scores = cycle([50] * 8, weak=3)
+    assert _prune_doubtful_beats(segs, scores, cfg)[0] == segs

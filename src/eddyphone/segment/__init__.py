@@ -75,6 +75,10 @@ class SegmentConfig:
         The diastole may last up to this many beat periods beyond its mean (carried
         by the uniform floor), so a pause or a long cycle of an irregular rhythm is
         not filled with an invented beat.
+    doubtful_beat_support, doubtful_beat_margin : float
+        In an irregular rhythm a beat whose support (0-1, geometric mean of its
+        segments' frame support) is below ``doubtful_beat_support`` and at least
+        ``doubtful_beat_margin`` below the median beat is folded into the diastole.
     emission_model : str or None
         Path of an emission model JSON; None uses the shipped model.
     """
@@ -95,6 +99,8 @@ class SegmentConfig:
     min_run_s: float = 2.5
     adapt_weight: float = 0.5
     diastole_tail_periods: float = 1.0
+    doubtful_beat_support: float = 0.7
+    doubtful_beat_margin: float = 0.15
     emission_model: str | None = None
 
     def __post_init__(self) -> None:
@@ -222,12 +228,13 @@ def _swap_evidence(starts: np.ndarray, ends: np.ndarray, states: np.ndarray,
                    tilt: np.ndarray, ffs: float, loglik: np.ndarray | None = None) -> float:
     """Evidence (> 0) that the decoded S1/S2 labels are the right way round.
 
-    Five cues, each clipped to +/-3 (duration +/-2): timing (systole shorter than
-    diastole by the margin the Weissler regression expects at this rate), stability
-    (the systolic interval varies less than the diastolic one when the rhythm
-    varies), pitch (S2 is higher-pitched than S1, common practice), duration (S1
-    lasts longer than S2: 122 vs 92 ms in Schmidt et al. 2010) and the emission
-    model (log likelihood of the labels against the mirrored labels, per beat).
+    Four cues, each clipped to +/-3: timing (systole shorter than diastole by the
+    margin the Weissler regression expects at this rate), stability (the systolic
+    interval varies less than the diastolic one when the rhythm varies), pitch (S2
+    is higher-pitched than S1, common practice) and the emission model (log
+    likelihood of the labels against the mirrored labels, per beat). The decoded
+    sound durations are no cue: the duration laws give S1 the longer mean, so
+    whichever sound is labelled S1 comes out longer.
     """
     sys, dia = _intervals(starts, states, ffs)
     if len(sys) < 2 or len(dia) < 2:
@@ -256,12 +263,7 @@ def _swap_evidence(starts: np.ndarray, ends: np.ndarray, states: np.ndarray,
     pitch = 0.0
     if len(m1) and len(m2):
         pitch = float(np.clip((np.mean(m2) - np.mean(m1)) / 0.3, -3, 3))
-    lengths = ends - starts
-    d1, d2 = lengths[states == 0], lengths[states == 2]
-    duration = 0.0
-    if len(d1) >= 2 and len(d2) >= 2:
-        duration = float(np.clip((np.median(d1) - np.median(d2)) / ffs / 0.015, -2, 2))
-    return timing + stability + pitch + emission + duration
+    return timing + stability + pitch + emission
 
 
 def _refine(starts, states, est: HeartRateEstimate, ffs: float, cfg: SegmentConfig):
@@ -407,16 +409,78 @@ def _decode_chunk(loglik: np.ndarray, homo: np.ndarray, tilt: np.ndarray, sound:
     # assumptions, emissions adapted to this recording; one decoding for both.
     again = _refine(starts, states, est, ffs, cfg)
     adapt = feats is not None and cfg.adapt_weight > 0
+    shipped = loglik
     if adapt:
         loglik = _adapted(loglik, feats, starts, ends, states, cfg.adapt_weight)
     if again is not None:
         ld, ls = again
     if again is not None or adapt:
         starts, ends, states, _ = viterbi_cyclic(loglik, ld, ls)
-    if _swap_evidence(starts, ends, states, tilt, ffs, loglik) < 0:
+    # The shipped emissions judge the labels: the adapted ones were fitted to this
+    # very labelling and would vouch for it whichever way round it is.
+    if _swap_evidence(starts, ends, states, tilt, ffs, shipped) < 0:
         # S1 <-> S2 and systole <-> diastole: the same boundaries, labels mirrored.
         states = (states + 2) % 4
     return _Decoded(starts, ends, states, est)
+
+
+def _segment_scores(segs: list[tuple[int, int, int]], sound: np.ndarray, a: int
+                    ) -> list[float]:
+    """Mean frame support of each segment: P(sound) for S1/S2, P(silence) otherwise."""
+    out = []
+    for s, e, k in segs:
+        p = float(np.mean(sound[s - a: e - a]))
+        out.append(p if k in (0, 2) else 1.0 - p)
+    return out
+
+
+def _prune_doubtful_beats(segs: list[tuple[int, int, int]], scores: list[float],
+                          cfg: SegmentConfig) -> tuple[list[tuple[int, int, int]], list[float]]:
+    """Fold weakly supported beats of an irregular rhythm into the diastole around them.
+
+    In a regular rhythm the duration laws keep invented beats out; in an irregular
+    one any interval is plausible, so a breath or rub sound in a long diastole can
+    be read as a beat. A beat (S1, systole, S2 between two diastoles) is folded into
+    one diastole when the rhythm of the stretch is irregular, its support (geometric
+    mean of its four segments' scores) is below ``cfg.doubtful_beat_support`` and at
+    least ``cfg.doubtful_beat_margin`` below the median beat of the stretch.
+    """
+    labels = [k for _, _, k in segs]
+    beats = [i for i in range(1, len(segs) - 3) if labels[i - 1: i + 4] == [3, 0, 1, 2, 3]]
+    s1_onsets = np.array([segs[i][0] for i in beats], dtype=float)
+    if len(beats) < 4:
+        return segs, scores
+    rr = np.diff(s1_onsets)
+    if np.std(rr) / np.mean(rr) <= cfg.irregular_rr_cv:
+        return segs, scores
+    logs = np.log(np.clip(scores, 1e-6, 1.0))
+    support = np.array([np.exp(np.mean(logs[i: i + 4])) for i in beats])
+    limit = min(cfg.doubtful_beat_support, float(np.median(support)) - cfg.doubtful_beat_margin)
+    doubtful = {i for i, sup in zip(beats, support, strict=True) if sup < limit}
+    if not doubtful:
+        return segs, scores
+    out_segs: list[tuple[int, int, int]] = []
+    out_scores: list[float] = []
+    skip_to = -1
+    for i, (seg, score) in enumerate(zip(segs, scores, strict=True)):
+        if i < skip_to:
+            continue
+        if i + 1 in doubtful and seg[2] == 3:
+            # diastole, S1, systole, S2, diastole -> one diastole
+            j = i + 4
+            while j + 1 in doubtful:  # consecutive doubtful beats fold together
+                j += 4
+            span = range(i, j + 1)
+            length = sum(segs[k][1] - segs[k][0] for k in span)
+            merged = sum((1.0 - scores[k] if segs[k][2] in (0, 2) else scores[k])
+                         * (segs[k][1] - segs[k][0]) for k in span) / length
+            out_segs.append((seg[0], segs[j][1], 3))
+            out_scores.append(merged)
+            skip_to = j + 1
+            continue
+        out_segs.append(seg)
+        out_scores.append(score)
+    return out_segs, out_scores
 
 
 def _usable_runs(n_frames: int, ffs: float, quality, min_run_s: float,
@@ -567,11 +631,9 @@ def segment(x: np.ndarray, fs: float, *, quality=None,
         segs, ests, post = _decode_run(feat, env.homomorphic, model, ffs, cfg, a, b)
         estimates.extend(ests)
         sound = post[:, 0] + post[:, 2]
-        for s, e, k in segs:
-            p = sound[s - a: e - a]
-            score = float(np.mean(p if k in (0, 2) else 1.0 - p))
-            segments.append(Segment(s / ffs, e / ffs, STATES[k]))
-            scores.append(score)
+        segs, seg_scores = _prune_doubtful_beats(segs, _segment_scores(segs, sound, a), cfg)
+        segments.extend(Segment(s / ffs, e / ffs, STATES[k]) for s, e, k in segs)
+        scores.extend(seg_scores)
 
     beats = beats_from_segments(segments, scores, [a / ffs for a, _ in runs])
     if estimates:
