@@ -101,7 +101,10 @@ def test_window_measures_equal_measuring_each_window_alone(window_s):
     # window must read as if it were measured on its own with the public functions.
     x = burst_train(duration_s=13.0, seed=4) + 0.01 * np.random.default_rng(4).standard_normal(
         int(13 * FS))
-    x[int(5.3 * FS): int(5.3 * FS) + 3] = [2.0, 4.0, 2.0]  # a handling spike
+    x[int(9.3 * FS): int(9.3 * FS) + 3] = [2.0, 4.0, 2.0]  # a handling spike
+    # Flat at the peak level across the 4-s boundary: one sample before it (not a run in
+    # its own window), three after.
+    x[int(4 * FS) - 1: int(4 * FS) + 3] = 0.6
     q = assess(x, FS, QualityConfig(window_s=window_s), hum_hz=None)
     heart = bandpass(x - np.mean(x), FS, QualityConfig().band_hz)
     assert len(q.windows) >= 3
@@ -114,3 +117,4 @@ def test_window_measures_equal_measuring_each_window_alone(window_s):
         assert w.measures.clipping_fraction == clipping_fraction(x[a:b])
         assert w.measures.spikes_per_min == pytest.approx(despike(heart[a:b], FS)[1] / minutes)
     assert any(w.measures.spikes_per_min > 0 for w in q.windows)
+    assert any(w.measures.clipping_fraction > 0 for w in q.windows)

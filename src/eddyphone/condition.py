@@ -16,6 +16,7 @@ condition(x, fs, config)         all of the above in order -> Conditioned
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 from functools import lru_cache
 
@@ -214,23 +215,25 @@ def detect_hum(x: np.ndarray, fs: float, *, prominence_db: float = 8.0) -> float
     return best
 
 
-def percentiles(a: np.ndarray, q: tuple[float, ...]) -> list[float]:
-    """``np.percentile(a, q)`` (linear interpolation) of finite values, by one partial sort.
+def percentiles(a: np.ndarray, q: tuple[float, ...]) -> list:
+    """``np.percentile(a, q, axis=-1)`` (linear interpolation) of finite values.
 
-    The same arithmetic as numpy's, without its general set-up.
+    One partial sort and the same arithmetic as numpy's, without its general
+    set-up. Returns one float per ``q`` for 1-D ``a``, one array per ``q`` for rows.
     """
-    a = np.ravel(a)
-    n = len(a)
+    a = np.asarray(a)
+    n = a.shape[-1]
     if n == 0:
-        return [float("nan")] * len(q)  # as numpy, without its warning
+        return [np.full(a.shape[:-1], np.nan)[()] for _ in q]  # as numpy, without its warning
     pos = [(n - 1) * (p / 100.0) for p in q]
-    below = [min(int(np.floor(x)), n - 1) for x in pos]
-    part = np.partition(a, sorted({k for b in below for k in (b, min(b + 1, n - 1))}))
+    below = [min(math.floor(x), n - 1) for x in pos]
+    part = np.partition(a, sorted({k for b in below for k in (b, min(b + 1, n - 1))}), axis=-1)
     out = []
     for x, b in zip(pos, below):
-        lo, hi = float(part[b]), float(part[min(b + 1, n - 1)])
+        lo, hi = part[..., b], part[..., min(b + 1, n - 1)]
         g, step = x - b, hi - lo
-        out.append(hi - step * (1 - g) if g >= 0.5 else lo + step * g)
+        value = hi - step * (1 - g) if g >= 0.5 else lo + step * g
+        out.append(float(value) if a.ndim == 1 else value)
     return out
 
 

@@ -140,17 +140,21 @@ def clipping_fraction(x: np.ndarray) -> float:
     Clipped audio flattens at its extreme value; an unclipped signal reaches its
     peak in isolated samples.
     """
-    mag = np.abs(x)
-    peak = float(np.max(mag))
-    if peak <= 0:
-        return 0.0
-    at_peak = np.flatnonzero(mag >= 0.999 * peak)
-    # A sample is flagged when a neighbour is also at the peak level.
-    joined = np.diff(at_peak) == 1
-    flagged = np.zeros(len(at_peak), dtype=bool)
+    return float(_clipping_rows(np.asarray(x)[None, :])[0])
+
+
+def _clipping_rows(rows: np.ndarray) -> np.ndarray:
+    """:func:`clipping_fraction` of each row of ``rows``."""
+    mag = np.abs(rows)
+    peak = np.max(mag, axis=1)
+    row, col = np.divmod(np.flatnonzero(mag >= 0.999 * peak[:, None]), rows.shape[1])
+    # A sample is flagged when a neighbour in its row is also at the peak level.
+    joined = (np.diff(col) == 1) & (np.diff(row) == 0)
+    flagged = np.zeros(len(col), dtype=bool)
     flagged[1:] |= joined
     flagged[:-1] |= joined
-    return int(np.count_nonzero(flagged)) / len(mag)
+    fraction = np.bincount(row[flagged], minlength=len(rows)) / rows.shape[1]
+    return np.where(peak > 0, fraction, 0.0)
 
 
 def frame_energy(x: np.ndarray, fs: float, frame_s: float = 0.02) -> np.ndarray:
@@ -166,8 +170,13 @@ def contrast_db(energy: np.ndarray) -> float:
     Between heart sounds a clean recording is nearly silent, so the ratio
     estimates the signal-to-noise ratio of the heart sounds.
     """
+    return float(_contrast_rows(np.asarray(energy)[None, :])[0])
+
+
+def _contrast_rows(energy: np.ndarray) -> np.ndarray:
+    """:func:`contrast_db` of each row of ``energy``."""
     loud, quiet = percentiles(energy, (95.0, 10.0))
-    return float(10 * np.log10((loud + 1e-20) / (quiet + 1e-20)))
+    return 10 * np.log10((loud + 1e-20) / (quiet + 1e-20))
 
 
 def periodicity(energy: np.ndarray, frame_fs: float, *, min_bpm: float = 40.0,
@@ -177,18 +186,26 @@ def periodicity(energy: np.ndarray, frame_fs: float, *, min_bpm: float = 40.0,
     Lags span one beat at ``max_bpm`` to one beat at ``min_bpm``; 1 means
     perfectly periodic, 0 no periodicity.
     """
-    env = np.log(energy + 1e-12 * (np.max(energy) + 1e-30))
-    env = env - np.mean(env)
-    denom = float(np.sum(env * env))  # not np.dot: BLAS threads are slow on a busy machine
-    n = len(env)
+    return float(_periodicity_rows(np.asarray(energy)[None, :], frame_fs, min_bpm, max_bpm)[0])
+
+
+def _periodicity_rows(energy: np.ndarray, frame_fs: float, min_bpm: float = 40.0,
+                      max_bpm: float = 200.0) -> np.ndarray:
+    """:func:`periodicity` of each row of ``energy``."""
+    env = np.log(energy + 1e-12 * (np.max(energy, axis=1, keepdims=True) + 1e-30))
+    env = env - np.mean(env, axis=1, keepdims=True)
+    denom = np.sum(env * env, axis=1)  # not np.dot: BLAS threads are slow on a busy machine
+    n = env.shape[1]
     lo = math.floor(frame_fs * 60.0 / max_bpm)
     hi = min(math.ceil(frame_fs * 60.0 / min_bpm), n - 2)
-    if denom <= 0 or hi <= lo:
-        return 0.0
-    spectrum = np.fft.rfft(env, n=2 * n)
-    acf = np.fft.irfft(spectrum * np.conj(spectrum))[lo: hi + 1] / denom
+    if hi <= lo:
+        return np.zeros(len(env))
+    spectrum = np.fft.rfft(env, n=2 * n, axis=1)
+    acf = np.fft.irfft(spectrum * np.conj(spectrum), axis=1)[:, lo: hi + 1]
+    with np.errstate(divide="ignore", invalid="ignore"):
+        acf = acf / denom[:, None]
     acf = acf * n / (n - np.arange(lo, hi + 1))  # unbiased: undo the lag taper
-    return min(max(float(np.max(acf)), 0.0), 1.0)
+    return np.where(denom > 0, np.clip(np.max(acf, axis=1), 0.0, 1.0), 0.0)
 
 
 def _ramp(value: float, poor: float, good: float) -> float:
@@ -244,31 +261,58 @@ def _span(grid: np.ndarray, n: int, a: int, b: int) -> np.ndarray | None:
     return grid[a // n: a // n + (b - a) // n] if a % n == 0 else None
 
 
-def _spike_count(heart: np.ndarray, fs: float, peaks: np.ndarray | None) -> int:
-    """Number of spikes :func:`despike` removes, without running it when none stands out."""
-    if peaks is not None:
-        median = np.median(peaks) if len(peaks) >= 3 else 0.0
-        if median <= 0 or np.max(peaks) <= _SPIKE_THRESHOLD * median:
-            return 0  # the first test despike makes: nothing to remove
-    return despike(heart, fs, threshold=_SPIKE_THRESHOLD, window_s=_SPIKE_WINDOW_S)[1]
-
-
-def _measure(prep: _Prepared, a: int, b: int, hum_hz: float | None,
-             clipping: float | None = None) -> QualityMeasures:
-    """Measures of samples ``[a, b)``, sliced from ``prep`` where the grids align."""
-    heart = prep.heart[a:b]
+def _energy_of(prep: _Prepared, a: int, b: int) -> np.ndarray:
     energy = _span(prep.energy, prep.frame_n, a, b)
-    if energy is None:
-        energy = frame_energy(heart, prep.fs, _FRAME_S)
-    spikes = _spike_count(heart, prep.fs, _span(prep.peaks, prep.spike_n, a, b))
-    minutes = len(heart) / prep.fs / 60.0
-    return QualityMeasures(
-        contrast_db=contrast_db(energy),
-        periodicity=periodicity(energy, 1.0 / _FRAME_S),
-        clipping_fraction=clipping_fraction(prep.raw[a:b]) if clipping is None else clipping,
-        spikes_per_min=spikes / minutes if minutes > 0 else 0.0,
-        hum_hz=hum_hz,
-    )
+    return frame_energy(prep.heart[a:b], prep.fs, _FRAME_S) if energy is None else energy
+
+
+def _peaks_of(prep: _Prepared, a: int, b: int) -> np.ndarray:
+    """Peak |heart| in the spike windows of ``[a, b)`` (as :func:`despike` splits it)."""
+    peaks = _span(prep.peaks, prep.spike_n, a, b)
+    if peaks is None:
+        m = (b - a) // prep.spike_n
+        peaks = np.max(np.abs(prep.heart[a: a + m * prep.spike_n]).reshape(m, prep.spike_n),
+                       axis=1)
+    return peaks
+
+
+def _spike_counts(prep: _Prepared, starts: list[int], length: int) -> list[int]:
+    """Spikes :func:`despike` removes from each window, run only where one stands out."""
+    peaks = np.stack([_peaks_of(prep, a, a + length) for a in starts])
+    if peaks.shape[1] < 3:
+        return [0] * len(starts)  # despike needs three windows
+    median = np.median(peaks, axis=1)
+    # The first test despike makes: is any window's peak above threshold x the median?
+    suspect = (median > 0) & (np.max(peaks, axis=1) > _SPIKE_THRESHOLD * median)
+    return [despike(prep.heart[a: a + length], prep.fs, threshold=_SPIKE_THRESHOLD,
+                    window_s=_SPIKE_WINDOW_S)[1] if hit else 0
+            for a, hit in zip(starts, suspect)]
+
+
+def _measure_rows(prep: _Prepared, starts: list[int], length: int,
+                  hum_hz: float | None) -> list[QualityMeasures]:
+    """Measures of the windows ``[a, a + length)`` for ``a`` in ``starts``, all at once."""
+    energy = np.stack([_energy_of(prep, a, a + length) for a in starts])
+    raw = np.stack([prep.raw[a: a + length] for a in starts])
+    minutes = length / prep.fs / 60.0
+    return [QualityMeasures(contrast_db=float(c), periodicity=float(p),
+                            clipping_fraction=float(k),
+                            spikes_per_min=n / minutes if minutes > 0 else 0.0, hum_hz=hum_hz)
+            for c, p, k, n in zip(_contrast_rows(energy),
+                                  _periodicity_rows(energy, 1.0 / _FRAME_S),
+                                  _clipping_rows(raw), _spike_counts(prep, starts, length))]
+
+
+def _window_measures(prep: _Prepared, bounds: list[tuple[int, int]],
+                     hum_hz: float | None) -> list[QualityMeasures]:
+    """Measures of each window; windows of one length are measured together."""
+    by_length: dict[int, list[int]] = {}
+    for a, b in bounds:
+        by_length.setdefault(b - a, []).append(a)
+    found = {}
+    for length, starts in by_length.items():
+        found.update(zip(starts, _measure_rows(prep, starts, length, hum_hz)))
+    return [found[a] for a, _ in bounds]
 
 
 def _window_bounds(n: int, fs: float, window_s: float) -> list[tuple[int, int]]:
@@ -296,11 +340,11 @@ def assess(x: np.ndarray, fs: float, config: QualityConfig | None = None, *,
     if hum_hz == _DETECT:
         hum_hz = detect_hum(centred, fs)
     prep = _prepare(raw, bandpass(centred, fs, config.band_hz), fs)
-    overall = _measure(prep, 0, len(raw), hum_hz)
+    overall = _measure_rows(prep, [0], len(raw), hum_hz)[0]
     _, reasons = _score(overall, config)
     windows = []
-    for a, b in _window_bounds(len(raw), fs, config.window_s):
-        m = _measure(prep, a, b, hum_hz)
+    bounds = _window_bounds(len(raw), fs, config.window_s)
+    for (a, b), m in zip(bounds, _window_measures(prep, bounds, hum_hz)):
         w_score, w_reasons = _score(m, config)
         windows.append(QualityWindow(a / fs, b / fs, w_score, w_score >= config.usable_threshold,
                                      w_reasons, m))
