@@ -605,6 +605,14 @@ def find_murmurs(spec: Spectrogram, prof: Profiles, config: FindingsConfig) -> M
         width = c.k1 - c.k0
         ok = M[other][bands].max(axis=0) < cfg.excess_db / 2.0
         starts = [k for k in range(n_bins - width + 1) if ok[k:k + width].all()]
+        if not starts:
+            # a murmur spanning more bins than the other window has free in a row:
+            # the null uses the longest free run (shorter runs vary more, so the
+            # threshold errs on the side of caution)
+            free = [e - s for s, e in _runs(ok)]
+            if free and max(free) >= 2:
+                width = max(free)
+                starts = [k for k in range(n_bins - width + 1) if ok[k:k + width].all()]
         if starts:
             null = np.concatenate([
                 10.0 * np.log10(np.maximum(
