@@ -378,7 +378,8 @@ def _adapted(loglik: np.ndarray, feats: np.ndarray, starts: np.ndarray, ends: np
         ll[:, j] = -0.5 * np.sum((feats - mu) ** 2 / var + np.log(var), axis=1)
     prior = np.log(counts / counts.sum())
     post = ll + prior
-    post -= np.logaddexp.reduce(post, axis=1, keepdims=True)
+    top = post.max(axis=1, keepdims=True)
+    post -= top + np.log(np.exp(post - top).sum(axis=1, keepdims=True))
     return (1.0 - weight) * loglik + weight * (post - prior)
 
 
@@ -427,11 +428,13 @@ def _decode_chunk(loglik: np.ndarray, homo: np.ndarray, tilt: np.ndarray, sound:
 def _segment_scores(segs: list[tuple[int, int, int]], sound: np.ndarray, a: int
                     ) -> list[float]:
     """Mean frame support of each segment: P(sound) for S1/S2, P(silence) otherwise."""
-    out = []
-    for s, e, k in segs:
-        p = float(np.mean(sound[s - a: e - a]))
-        out.append(p if k in (0, 2) else 1.0 - p)
-    return out
+    if not segs:
+        return []
+    rows = np.array(segs)
+    s, e, k = rows[:, 0] - a, rows[:, 1] - a, rows[:, 2]
+    cum = np.concatenate([[0.0], np.cumsum(sound)])
+    p = (cum[e] - cum[s]) / (e - s)
+    return np.where((k == 0) | (k == 2), p, 1.0 - p).tolist()
 
 
 def _prune_doubtful_beats(segs: list[tuple[int, int, int]], scores: list[float],
