@@ -293,7 +293,7 @@ def _measure_rows(prep: _Prepared, starts: list[int], length: int,
                   hum_hz: float | None) -> list[QualityMeasures]:
     """Measures of the windows ``[a, a + length)`` for ``a`` in ``starts``, all at once."""
     energy = np.stack([_energy_of(prep, a, a + length) for a in starts])
-    raw = np.stack([prep.raw[a: a + length] for a in starts])
+    raw = _rows(prep.raw, starts, length)
     minutes = length / prep.fs / 60.0
     return [QualityMeasures(contrast_db=float(c), periodicity=float(p),
                             clipping_fraction=float(k),
@@ -301,6 +301,14 @@ def _measure_rows(prep: _Prepared, starts: list[int], length: int,
             for c, p, k, n in zip(_contrast_rows(energy),
                                   _periodicity_rows(energy, 1.0 / _FRAME_S),
                                   _clipping_rows(raw), _spike_counts(prep, starts, length))]
+
+
+def _rows(x: np.ndarray, starts: list[int], length: int) -> np.ndarray:
+    """``x[a: a + length]`` for each start as rows: a view when they follow one another."""
+    a = starts[0]
+    if starts == list(range(a, a + len(starts) * length, length)):
+        return x[a: a + len(starts) * length].reshape(len(starts), length)
+    return np.stack([x[b: b + length] for b in starts])
 
 
 def _window_measures(prep: _Prepared, bounds: list[tuple[int, int]],
