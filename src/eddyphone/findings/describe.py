@@ -119,11 +119,11 @@ def describe(x: np.ndarray, fs: float, segmentation, *, quality=None,
 def _resolve_extra_vs_murmur(murmurs, extras):
     """Decide between a diastolic murmur and an S3/S4 found at the same place.
 
-    A short (at most 40 % of diastole), low-pitched (or, in plain Hz, below the
-    low-pitch edge) early-diastolic excess where an
-    S3 was found is the S3, not a murmur; likewise late-diastolic with an S4. A
-    longer diastolic murmur keeps its place and the S3/S4 is not reported (an
-    inflow murmur's presystolic accent looks like an S4).
+    A short (at most 40 % of diastole, or within 6 dB of its peak over at most a
+    fifth of it), low-pitched (or, in plain Hz, below the low-pitch edge)
+    early-diastolic excess where an S3 was found is the S3, not a murmur; likewise
+    late-diastolic with an S4. A longer diastolic murmur keeps its place and the
+    S3/S4 is not reported (an inflow murmur's presystolic accent looks like an S4).
     """
     from dataclasses import replace
 
@@ -135,12 +135,17 @@ def _resolve_extra_vs_murmur(murmurs, extras):
             # read the broadband edges of a transient as high where the floor is
             # very low, as behind a strongly tilted chest piece)
             low = m.pitch == "low" or m.centroid_hz < PITCH_BOUNDARIES_HZ[0]
-            short_low = (low and m.phase == "diastolic"
-                         and m.end_fraction - m.onset_fraction <= 0.4)
-            if short_low and "S3" in kinds and m.onset_fraction <= 0.34:
+            short = m.end_fraction - m.onset_fraction <= 0.4
+            # or brief at its loudest (a faint unrelated excess, such as a wheeze,
+            # can stretch its extent): judged where it peaks
+            brief = not short and _brief_peak(m.profile)
+            short_low = low and m.phase == "diastolic" and (short or brief)
+            early = m.peak_fraction <= 0.34 if brief else m.onset_fraction <= 0.34
+            late = m.peak_fraction >= 0.66 if brief else m.end_fraction >= 0.66
+            if short_low and "S3" in kinds and early:
                 notes.append("a short low-pitched early-diastolic excess is the S3")
                 continue
-            if short_low and "S4" in kinds and m.end_fraction >= 0.66:
+            if short_low and "S4" in kinds and late:
                 notes.append("a short low-pitched late-diastolic excess is the S4")
                 continue
             drop_sounds |= {"S3", "S4"}
@@ -149,6 +154,13 @@ def _resolve_extra_vs_murmur(murmurs, extras):
     extras = tuple(replace(e, id=f"x{i + 1}") for i, e in enumerate(
         e for e in extras if e.kind not in drop_sounds))
     return tuple(keep), extras, notes
+
+
+def _brief_peak(profile, share: float = 0.2) -> bool:
+    """True when at most ``share`` of a murmur's window profile (peak 1) lies within
+    6 dB of its peak: an S3- or S4-like transient, not a sustained murmur."""
+    p = np.asarray(profile, dtype=float)
+    return bool(len(p)) and float(np.mean(p >= 0.25)) <= share
 
 
 def _window_spectrum_measures(spec, a: float, b: float, fs: float) -> tuple[float, float]:
