@@ -149,7 +149,7 @@ def _build(frames: np.ndarray, fs: float, *, source: str, fmt: str, subtype: str
 
 
 def _silent(x: np.ndarray, floor: float = 1e-7) -> bool:
-    """Peak-to-peak or standard deviation at most ``floor``: nothing was recorded."""
+    """Peak-to-peak at most ``floor``, or standard deviation below it: nothing was recorded."""
     span = float(np.ptp(x))
     if span <= floor:
         return True
