@@ -226,7 +226,14 @@ def _intervals(starts: np.ndarray, states: np.ndarray, ffs: float
 
 def _swap_evidence(starts: np.ndarray, ends: np.ndarray, states: np.ndarray,
                    tilt: np.ndarray, ffs: float, loglik: np.ndarray | None = None) -> float:
-    """Evidence (> 0) that the decoded S1/S2 labels are the right way round.
+    """Evidence (> 0) that the decoded S1/S2 labels are the right way round."""
+    return sum(_swap_cues(starts, ends, states, tilt, ffs, loglik).values())
+
+
+def _swap_cues(starts: np.ndarray, ends: np.ndarray, states: np.ndarray,
+               tilt: np.ndarray, ffs: float, loglik: np.ndarray | None = None
+               ) -> dict[str, float]:
+    """The cues of :func:`_swap_evidence`, each > 0 for the labels as decoded.
 
     Four cues, each clipped to +/-3: timing (systole shorter than diastole by the
     margin the Weissler regression expects at this rate), stability (the systolic
@@ -238,7 +245,7 @@ def _swap_evidence(starts: np.ndarray, ends: np.ndarray, states: np.ndarray,
     """
     sys, dia = _intervals(starts, states, ffs)
     if len(sys) < 2 or len(dia) < 2:
-        return 0.0
+        return {}
     frame_state = np.repeat(states, ends - starts)
     emission = 0.0
     if loglik is not None:
@@ -263,7 +270,7 @@ def _swap_evidence(starts: np.ndarray, ends: np.ndarray, states: np.ndarray,
     pitch = 0.0
     if len(m1) and len(m2):
         pitch = float(np.clip((np.mean(m2) - np.mean(m1)) / 0.3, -3, 3))
-    return timing + stability + pitch + emission
+    return {"timing": timing, "stability": stability, "pitch": pitch, "emission": emission}
 
 
 def _refine(starts, states, est: HeartRateEstimate, ffs: float, cfg: SegmentConfig):
