@@ -100,21 +100,19 @@ def duration_tables(laws: tuple[StateDuration, ...], feature_fs: float, *,
     log_mass, log_survival : ndarray, shape (N, D + 1)
         Column ``d`` is a duration of ``d`` frames; column 0 is impossible.
     """
-    dmins = [max(1, int(np.floor(law.min_s * feature_fs))) for law in laws]
-    dmaxs = [max(dmins[i] + 1, int(np.ceil(law.max_s * feature_fs)))
-             for i, law in enumerate(laws)]
-    dmax = max(dmaxs)
-    d = np.arange(dmax + 1, dtype=float)
-    mass = np.zeros((len(laws), dmax + 1))
-    for i, law in enumerate(laws):
-        mu, sd = law.mean_s * feature_fs, max(law.sd_s * feature_fs, 0.5)
-        # Probability of each whole-frame duration: Gaussian mass in d +/- 1/2.
-        g = ndtr((d + 0.5 - mu) / sd) - ndtr((d - 0.5 - mu) / sd)
-        inside = (d >= dmins[i]) & (d <= dmaxs[i])
-        g = np.where(inside, g, 0.0)
-        total = g.sum()
-        g = g / total if total > 0 else inside / inside.sum()
-        mass[i] = (1 - floor_weight) * g + floor_weight * inside / inside.sum()
+    dmins = np.array([max(1, int(np.floor(law.min_s * feature_fs))) for law in laws])
+    dmaxs = np.maximum(dmins + 1, [int(np.ceil(law.max_s * feature_fs)) for law in laws])
+    d = np.arange(int(dmaxs.max()) + 1, dtype=float)
+    mu = np.array([law.mean_s * feature_fs for law in laws])[:, None]
+    sd = np.array([max(law.sd_s * feature_fs, 0.5) for law in laws])[:, None]
+    # Probability of each whole-frame duration: Gaussian mass in d +/- 1/2.
+    g = ndtr((d + 0.5 - mu) / sd) - ndtr((d - 0.5 - mu) / sd)
+    inside = (d >= dmins[:, None]) & (d <= dmaxs[:, None])
+    g = np.where(inside, g, 0.0)
+    total = g.sum(axis=1, keepdims=True)
+    uniform = inside / inside.sum(axis=1, keepdims=True)
+    g = np.where(total > 0, g / np.where(total > 0, total, 1.0), uniform)
+    mass = (1 - floor_weight) * g + floor_weight * uniform
     with np.errstate(divide="ignore"):
         log_mass = np.log(mass)
         surv = np.cumsum(mass[:, ::-1], axis=1)[:, ::-1]

@@ -71,8 +71,8 @@ def viterbi_cyclic(log_emission: np.ndarray, log_duration: np.ndarray,
     finite = np.isfinite(ld[:, 1:])
     if not finite.any(axis=1).all():
         raise ParameterError("every state needs at least one possible duration")
-    dmins = np.array([int(np.argmax(finite[j]) + 1) for j in range(n)])
-    dmaxs = np.array([int(len(finite[j]) - np.argmax(finite[j][::-1])) for j in range(n)])
+    dmins = finite.argmax(axis=1) + 1
+    dmaxs = finite.shape[1] - finite[:, ::-1].argmax(axis=1)
     li = np.full(n, -np.log(n)) if log_initial is None else np.asarray(log_initial, float)
     prev = (np.arange(n) - 1) % n
 
