@@ -22,10 +22,11 @@ Method (our own arrangement of standard measures):
    'uncertain' consistency.
 5. Timing and shape come from the excess profile, each band weighted by its own
    noise floor so the device's tilt does not let one band stand for the murmur
-   (edges at :data:`EXTENT_DB` under its peak, mapped back to the whole window),
-   pitch and quality words from the excess
-   spectrum (murmur frames minus quiet frames) and the envelope roughness, the
-   grade from the peak excess power relative to the louder of S1 and S2.
+   (edges at :data:`EXTENT_DB` under its peak, mapped back to the whole window);
+   pitch from where the excess spectrum (murmur frames minus quiet frames) stands
+   out of the quiet frames (:func:`noise_relative_centroid_hz`), quality words
+   from the excess spectrum and the envelope roughness, the grade from the peak
+   excess power relative to the louder of S1 and S2.
 6. A murmur is continuous when a systolic and a diastolic murmur meet at S2, or when
    a systolic murmur reaching S2 spills into early diastole above the late-diastolic
    level, beat by beat (:data:`SPILL_T`): a murmur filling the whole cycle barely
