@@ -73,6 +73,18 @@ def test_rr_statistics_against_scipy():
     assert rr_statistics(np.array([0.8])) == (0.8, None, False)
 
 
+def test_premature_beats_alone_do_not_make_a_rhythm_irregular():
+    # Common practice: a regular rhythm with isolated premature beats (each followed by
+    # a compensatory pause) is regular with ectopy, not irregularly irregular.
+    rr = np.full(20, 0.8)
+    rr[[4, 12]] = 0.5   # premature beats at 62 % of the cycle ...
+    rr[[5, 13]] = 1.1   # ... and their compensatory pauses
+    mean, cv, irregular = rr_statistics(rr)
+    assert cv > 0.12 and not irregular
+    # a rate drifting steadily (recovery after exercise) is not irregular either
+    assert not rr_statistics(np.linspace(0.5, 0.8, 20))[2]
+
+
 def test_rhythm_from_beats_and_fallback():
     est = HeartRateEstimate(70.0, 0.35, 0.8)
     rr = np.full(10, 60.0 / 72.0)

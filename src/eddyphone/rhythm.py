@@ -30,6 +30,13 @@ from eddyphone.physiology import systolic_interval_s
 #: sinus rhythm with respiratory arrhythmia stays below about 0.1; atrial
 #: fibrillation is typically well above 0.15 (common practice, from memory).
 IRREGULAR_RR_CV = 0.12
+#: Median beat-to-beat RR change, relative to the median RR, above which a rhythm that
+#: also passes :data:`IRREGULAR_RR_CV` is flagged irregular. Atrial fibrillation is
+#: irregular from one beat to the next; isolated premature beats with their
+#: compensatory pauses, respiratory sinus arrhythmia and a drifting rate leave most
+#: successive intervals alike (common practice). For independent RR with a CV of
+#: 0.15 the median change is about 0.14 of the median RR.
+IRREGULAR_RR_STEP = 0.08
 
 
 @dataclass(frozen=True)
@@ -67,7 +74,8 @@ class Rhythm:
     rr_mean_s, rr_cv : float or None
         Mean RR interval and its coefficient of variation (None with < 2 intervals).
     irregular : bool
-        ``rr_cv`` above ``IRREGULAR_RR_CV``.
+        ``rr_cv`` above ``IRREGULAR_RR_CV`` and the median successive RR change above
+        ``IRREGULAR_RR_STEP`` of the median RR.
     confidence : float
         0-1; how far the estimate can be trusted.
     method : str
@@ -269,16 +277,23 @@ def _systole_from_ac(ac: np.ndarray, feature_fs: float, period: float, sys_reg_s
     return float(best) if abs(best - sys_reg_s) <= 0.3 * sys_reg_s else float(sys_reg_s)
 
 
-def rr_statistics(rr_s: np.ndarray, *, irregular_cv: float = IRREGULAR_RR_CV
+def rr_statistics(rr_s: np.ndarray, *, irregular_cv: float = IRREGULAR_RR_CV,
+                  irregular_step: float = IRREGULAR_RR_STEP
                   ) -> tuple[float | None, float | None, bool]:
     """Mean RR, its coefficient of variation and the irregular-rhythm flag.
+
+    A rhythm is irregular when its RR coefficient of variation exceeds
+    ``irregular_cv`` and the median change between successive intervals exceeds
+    ``irregular_step`` of the median interval (see :data:`IRREGULAR_RR_STEP`).
 
     Parameters
     ----------
     rr_s : ndarray
         RR intervals in seconds.
     irregular_cv : float
-        Coefficient of variation above which the rhythm is called irregular.
+        Coefficient of variation the rhythm must exceed to be called irregular.
+    irregular_step : float
+        Median successive change (relative) it must exceed too.
 
     Returns
     -------
@@ -291,7 +306,8 @@ def rr_statistics(rr_s: np.ndarray, *, irregular_cv: float = IRREGULAR_RR_CV
         return (float(rr[0]) if len(rr) else None), None, False
     mean = float(rr.mean())
     cv = float(rr.std(ddof=1) / mean) if mean > 0 else None
-    return mean, cv, bool(cv is not None and cv > irregular_cv)
+    step = float(np.median(np.abs(np.diff(rr))) / np.median(rr)) if mean > 0 else 0.0
+    return mean, cv, bool(cv is not None and cv > irregular_cv and step > irregular_step)
 
 
 def rhythm_from_beats(s1_onsets_s: np.ndarray, rr_s: np.ndarray, systoles_s: np.ndarray,

@@ -27,6 +27,7 @@ from eddyphone.rhythm import (
     Rhythm,
     period_candidates,
     rhythm_from_beats,
+    rr_statistics,
 )
 from eddyphone.segment.beats import Beat, Segment, beats_from_segments
 from eddyphone.segment.durations import STATES, duration_tables, state_durations
@@ -451,7 +452,8 @@ def _prune_doubtful_beats(segs: list[tuple[int, int, int]], scores: list[float],
     In a regular rhythm the duration laws keep invented beats out; in an irregular
     one any interval is plausible, so a breath or rub sound in a long diastole can
     be read as a beat. A beat (S1, systole, S2 between two diastoles) is folded into
-    one diastole when the rhythm of the stretch is irregular, its support (geometric
+    one diastole when the rhythm of the stretch is irregular (by
+    :func:`eddyphone.rhythm.rr_statistics`), its support (geometric
     mean of its four segments' scores) is below ``cfg.doubtful_beat_support`` and at
     least ``cfg.doubtful_beat_margin`` below the median beat of the stretch.
     """
@@ -460,8 +462,7 @@ def _prune_doubtful_beats(segs: list[tuple[int, int, int]], scores: list[float],
     s1_onsets = np.array([segs[i][0] for i in beats], dtype=float)
     if len(beats) < 4:
         return segs, scores
-    rr = np.diff(s1_onsets)
-    if np.std(rr) / np.mean(rr) <= cfg.irregular_rr_cv:
+    if not rr_statistics(np.diff(s1_onsets), irregular_cv=cfg.irregular_rr_cv)[2]:
         return segs, scores
     logs = np.log(np.clip(scores, 1e-6, 1.0))
     support = np.array([np.exp(np.mean(logs[i: i + 4])) for i in beats])
