@@ -24,6 +24,7 @@ from eddyphone.findings.measures import beat_windows, spectrogram
 from eddyphone.findings.murmur import (
     noise_relative_centroid_hz,
     pitch_word,
+    quality_words,
     shape_word,
     timing_word,
 )
@@ -115,6 +116,25 @@ def test_noise_relative_pitch_cancels_a_device_tilt():
     assert plain[1] < 0.8 * plain[0]
     # no murmur above the floor: no pitch
     assert np.isnan(noise_relative_centroid_hz(f, np.zeros_like(f), np.ones_like(f)))
+
+
+def test_quality_words_follow_the_trade():
+    # common practice: "rumbling" is kept for low diastolic murmurs (the inflow
+    # rumble), a tonal murmur is "musical", a rough one "harsh", a smooth one "blowing"
+    common = {"relative_spread": 0.5, "tonal_threshold": 0.5}
+    assert quality_words(pitch="low", tonality=0.1, roughness=0.1, phase="diastolic",
+                         **common) == ("rumbling",)
+    assert quality_words(pitch="low", tonality=0.1, roughness=0.1, phase="systolic",
+                         **common) != ("rumbling",)
+    # heard below the low-pitch edge through the device used, not measured high
+    assert quality_words(pitch="medium", tonality=0.1, roughness=0.1, phase="diastolic",
+                         centroid_hz=100.0, **common) == ("rumbling",)
+    assert quality_words(pitch="high", tonality=0.1, roughness=0.1, phase="diastolic",
+                         centroid_hz=100.0, **common) == ("blowing",)
+    assert quality_words(pitch="high", tonality=0.9, roughness=0.1, dominant_hz=400.0,
+                         **common) == ("musical",)
+    assert quality_words(pitch="medium", tonality=0.1, roughness=0.4, phase="systolic",
+                         **common) == ("harsh",)
 
 
 def test_shape_words():

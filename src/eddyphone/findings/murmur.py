@@ -200,13 +200,16 @@ def pitch_word(centroid_hz: float, boundaries_hz: tuple[float, float] = PITCH_BO
 
 def quality_words(*, pitch: str, tonality: float, relative_spread: float, roughness: float,
                   tonal_threshold: float, dominant_hz: float = float("inf"),
-                  phase: str = "diastolic") -> tuple[str, ...]:
+                  phase: str = "diastolic", centroid_hz: float = float("inf")
+                  ) -> tuple[str, ...]:
     """Descriptive words from spectral and envelope measures.
 
     ``musical`` when most excess energy sits in one narrow peak (tonality at or above
     ``tonal_threshold``) at or above :data:`MIN_TONAL_HZ` (below it the 32-ms frames
     cannot tell a tone from a narrow noise band); otherwise ``rumbling`` when
-    low-pitched and diastolic (the trade keeps the word for diastolic murmurs);
+    diastolic and low (the trade keeps the word for diastolic murmurs): low-pitched,
+    or not high-pitched with its heard spectrum (``centroid_hz``, as recorded) below
+    the low-pitch edge of :data:`~eddyphone.findings.config.PITCH_BOUNDARIES_HZ`;
     ``harsh`` when the envelope is rough (fast fluctuation at least
     :data:`HARSH_ROUGHNESS` of its mean), ``blowing`` when smoother. Our own rules on the
     usual meanings: musical = tonal, rumbling = low and noisy, harsh = rough,
@@ -215,7 +218,8 @@ def quality_words(*, pitch: str, tonality: float, relative_spread: float, roughn
     """
     if tonality >= tonal_threshold and dominant_hz >= MIN_TONAL_HZ:
         return ("musical",)
-    if pitch == "low" and phase == "diastolic":
+    heard_low = pitch == "medium" and centroid_hz < PITCH_BOUNDARIES_HZ[0]
+    if (pitch == "low" or heard_low) and phase == "diastolic":
         return ("rumbling",)
     if pitch == "low":
         return ("blowing",)
@@ -716,7 +720,8 @@ def find_murmurs(spec: Spectrogram, prof: Profiles, config: FindingsConfig) -> M
         rel_spread = sp["spread"] / centroid if np.isfinite(centroid) and centroid > 0 else 0.0
         words = quality_words(pitch=pitch, tonality=sp["tonality"], relative_spread=rel_spread,
                               roughness=rough, tonal_threshold=cfg.tonal_threshold,
-                              dominant_hz=sp["dominant_hz"], phase=name)
+                              dominant_hz=sp["dominant_hz"], phase=name,
+                              centroid_hz=centroid)
         band_e = {}
         tot = float(sp["excess"].sum())
         for lo, hi in spec.bands_hz:
