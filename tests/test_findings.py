@@ -144,6 +144,13 @@ def test_shape_words():
     assert shape_word(-30 * u)[0] == "decrescendo"
     assert shape_word(-30 * (1 - u))[0] == "crescendo"
     assert shape_word(-40 * (u - 0.5) ** 2 * 4)[0] == "crescendo-decrescendo"
+    # the shape is judged over the whole window, sound to sound (common practice):
+    # a profile of the trimmed window peaking in its second bin, with guards that put
+    # that bin at a quarter of the whole window, rises and falls
+    prof = np.array([-3.0, 0.0] + [-3.0 - 3.0 * i for i in range(n - 2)])
+    assert shape_word(prof)[0] == "decrescendo"
+    centres = 0.15 + 0.7 * (np.arange(n) + 0.5) / n
+    assert shape_word(prof, centres)[0] == "crescendo-decrescendo"
 
 
 # --- spectral measures against reference libraries -------------------------------------

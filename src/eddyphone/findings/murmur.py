@@ -154,22 +154,28 @@ def timing_word(onset_fraction: float, end_fraction: float) -> str:
     return "mid"
 
 
-def shape_word(profile_db: np.ndarray) -> tuple[str, float]:
+def shape_word(profile_db: np.ndarray, positions: np.ndarray | None = None
+               ) -> tuple[str, float]:
     """Shape word and a 0-1 confidence from a profile in dB re its peak.
 
     ``plateau`` when the middle 60 % of the murmur stays within 4 dB of its peak;
     otherwise by where the peak lies: first fifth ``decrescendo``, last fifth
     ``crescendo``, between ``crescendo-decrescendo`` (common practice: the shape is
     the loudness course of the murmur itself, from its start to its end).
+    ``positions`` are the bins' centres as fractions (0-1) of the whole window
+    (sound to sound) when the profile covers only part of it (default: equal bins
+    over the whole window).
     """
     p = np.asarray(profile_db, dtype=float)
     n = len(p)
     if n == 0:
         return "plateau", 0.0
-    lo, hi = int(np.floor(0.2 * n)), int(np.ceil(0.8 * n))
-    mid = p[lo:hi] if hi > lo else p
+    x = (np.arange(n) + 0.5) / n if positions is None else np.asarray(positions, float)
+    mid = p[(x >= 0.2) & (x <= 0.8)]
+    if len(mid) == 0:
+        mid = p
     k = int(np.argmax(p))
-    pos = (k + 0.5) / n
+    pos = float(x[k])
     if mid.min() >= -4.0:
         return "plateau", float(np.clip((mid.min() + 6.0) / 6.0, 0.3, 1.0))
     drop = float(-mid.min())
@@ -701,10 +707,14 @@ def find_murmurs(spec: Spectrogram, prof: Profiles, config: FindingsConfig) -> M
         t_conf = float(np.clip(1.0 - 4.0 * min(abs(onset - 0.15), abs(end - 0.85),
                                                abs(onset - 0.5), abs(end - 2 / 3)), 0.4, 1.0))
         full_db = 10.0 * np.log10(np.maximum(full, 1e-6))
-        shape, s_conf = shape_word(full_db if SHAPE_OVER_WINDOW else seg_db)
-        peak_frac = float((c.k0 + int(np.argmax(seg)) + 0.5) / n_bins)
+        # bin centres as fractions of the whole window (the guards trimmed at each
+        # end are part of it)
+        centres = (np.arange(n_bins) + 0.5) / n_bins
         if length > 0:
-            peak_frac = (g + peak_frac * length) / (length + 2.0 * g)
+            centres = (g + centres * length) / (length + 2.0 * g)
+        shape, s_conf = shape_word(full_db if SHAPE_OVER_WINDOW else seg_db,
+                                   centres if SHAPE_OVER_WINDOW else None)
+        peak_frac = float(centres[c.k0 + int(np.argmax(seg))])
         # level: peak excess power per beat (all bands) re the louder of S1 and S2
         peak_pow = excess_beats[use][:, c.window, c.k0:c.k1].max(axis=1)
         level = 10.0 * np.log10(max(float(np.median(peak_pow)), 1e-30)
