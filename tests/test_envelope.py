@@ -113,8 +113,9 @@ def test_band_envelopes_equal_a_direct_windowed_spectrum():
     for band, got in (((25.0, 100.0), env.low_band), ((100.0, 300.0), env.mid_band)):
         sel = (freqs >= band[0]) & (freqs < band[1])
         ref = np.sqrt(2 * np.sum(np.abs(spec[:, sel]) ** 2, axis=1) / (width * np.sum(win ** 2)))
-        np.testing.assert_allclose(got, ref, rtol=1e-10)
-        np.testing.assert_allclose(band_envelope(x, FS, band), ref, rtol=1e-10)
+        # samples are processed in single precision (eps 6e-8): agreement to 1e-5
+        np.testing.assert_allclose(got, ref, rtol=1e-5)
+        np.testing.assert_allclose(band_envelope(x, FS, band), ref, rtol=1e-5)
 
 
 def test_homomorphic_low_pass_equals_scipy_butterworth():
@@ -125,4 +126,5 @@ def test_homomorphic_low_pass_equals_scipy_butterworth():
     sos = scipy.signal.butter(1, 8.0, fs=50.0, output="sos")
     ref = np.exp(scipy.signal.sosfiltfilt(sos, log_mag, padlen=12))
     for _ in range(2):  # the second call uses the cached design
-        np.testing.assert_allclose(homomorphic_envelope(x, FS), ref, rtol=1e-9)
+        # single-precision samples (eps 6e-8): agreement to 1e-5
+        np.testing.assert_allclose(homomorphic_envelope(x, FS), ref, rtol=1e-5)
