@@ -190,9 +190,17 @@ def heart_rate_autocorrelation(env: np.ndarray, feature_fs: float, *, min_bpm: f
     if not (0 < min_bpm < max_bpm):
         raise ParameterError(f"min_bpm={min_bpm} and max_bpm={max_bpm} must satisfy "
                              "0 < min_bpm < max_bpm")
+    hi = int(np.ceil(60.0 / min_bpm * feature_fs))
+    return _rate_from_autocorrelation(envelope_autocorrelation(env, max_lag=hi + 2),
+                                      feature_fs, min_bpm, max_bpm)
+
+
+def _rate_from_autocorrelation(ac: np.ndarray, feature_fs: float, min_bpm: float,
+                               max_bpm: float) -> HeartRateEstimate:
+    """:func:`heart_rate_autocorrelation` on an autocorrelation already computed."""
     lo = max(2, int(np.floor(60.0 / max_bpm * feature_fs)))
     hi = int(np.ceil(60.0 / min_bpm * feature_fs))
-    ac = envelope_autocorrelation(env, max_lag=hi + 2)
+    ac = ac[: hi + 3]
     peaks = _local_maxima(ac, lo - 1, min(hi + 1, len(ac) - 1))
     peaks = peaks[(peaks >= lo) & (peaks <= hi)]
     if len(peaks) == 0:
@@ -235,11 +243,14 @@ def period_candidates(env: np.ndarray, feature_fs: float, *, min_bpm: float = 40
     -------
     list of HeartRateEstimate
     """
-    first = heart_rate_autocorrelation(env, feature_fs, min_bpm=min_bpm, max_bpm=max_bpm)
-    out = [first]
+    if not (0 < min_bpm < max_bpm):
+        raise ParameterError(f"min_bpm={min_bpm} and max_bpm={max_bpm} must satisfy "
+                             "0 < min_bpm < max_bpm")
     lo = max(2, int(np.floor(60.0 / max_bpm * feature_fs)))
     hi = int(np.ceil(60.0 / min_bpm * feature_fs))
     ac = envelope_autocorrelation(env, max_lag=2 * hi + 4)
+    first = _rate_from_autocorrelation(ac, feature_fs, min_bpm, max_bpm)
+    out = [first]
     peaks = _local_maxima(ac, lo - 1, min(hi + 1, len(ac) - 1))
     peaks = peaks[(peaks >= lo) & (peaks <= hi)]
     if len(peaks) == 0:

@@ -378,12 +378,12 @@ def _adapted(loglik: np.ndarray, feats: np.ndarray, starts: np.ndarray, ends: np
     counts = np.bincount(lab, minlength=n)
     if np.any(counts < 10):
         return loglik
-    ll = np.empty_like(loglik)
-    for j in range(n):
-        f = feats[lab == j]
-        mu = f.mean(axis=0)
-        var = f.var(axis=0) + 0.05
-        ll[:, j] = -0.5 * np.sum((feats - mu) ** 2 / var + np.log(var), axis=1)
+    onehot = np.eye(n)[lab]  # (T, N)
+    mu = (onehot.T @ feats) / counts[:, None]  # (N, F)
+    var = (onehot.T @ feats ** 2) / counts[:, None] - mu ** 2 + 0.05
+    # -0.5 * sum_f ((x - mu)^2 / var + log var), expanded into matrix products
+    ll = -0.5 * ((feats ** 2) @ (1.0 / var).T - 2.0 * feats @ (mu / var).T
+                 + np.sum(mu ** 2 / var + np.log(var), axis=1))
     prior = np.log(counts / counts.sum())
     post = ll + prior
     top = post.max(axis=1, keepdims=True)

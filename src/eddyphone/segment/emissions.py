@@ -24,6 +24,7 @@ from __future__ import annotations
 
 import json
 from dataclasses import dataclass, field
+from functools import lru_cache
 from importlib import resources
 from pathlib import Path
 
@@ -131,7 +132,13 @@ class EmissionModel:
 
     @classmethod
     def load(cls, path: str | Path | None = None) -> EmissionModel:
-        """Read parameters from ``path`` (the shipped model by default)."""
+        """Read parameters from ``path`` (the shipped model by default; read once)."""
+        if path is None:
+            return _shipped_model()
+        return cls._read(path)
+
+    @classmethod
+    def _read(cls, path: str | Path | None) -> EmissionModel:
         try:
             if path is None:
                 text = resources.files("eddyphone").joinpath("data", DEFAULT_MODEL).read_text(
@@ -150,6 +157,14 @@ class EmissionModel:
                              "retrain the model with bench/train_segmenter.py")
         return cls(np.asarray(data["weights"], float), np.asarray(data["bias"], float),
                    np.asarray(data["log_prior"], float), names, dict(data.get("info", {})))
+
+
+@lru_cache(maxsize=1)
+def _shipped_model() -> EmissionModel:
+    model = EmissionModel._read(None)
+    for array in (model.weights, model.bias, model.log_prior):
+        array.setflags(write=False)
+    return model
 
 
 def fit_emission_model(features: np.ndarray, labels: np.ndarray, *, n_states: int = 4,
