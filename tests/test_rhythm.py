@@ -99,6 +99,18 @@ def test_rhythm_from_beats_and_fallback():
     assert fb.method == "autocorrelation" and fb.heart_rate_bpm == 70.0
 
 
+def test_missed_beat_in_a_rhythm_with_premature_beats_counts_twice():
+    # Hand count: 20 beats of 0.8 s with one premature beat (0.5 s) and its pause
+    # (1.1 s), one beat missed by the detector (an interval of 1.6 s): 21 intervals
+    # in 16.8 s, so 75 bpm; taken at face value the 20 found intervals give 71.4 bpm.
+    rr = np.full(20, 0.8)
+    rr[4], rr[5], rr[12] = 0.5, 1.1, 1.6
+    est = HeartRateEstimate(75.0, 0.35, 0.8)
+    r = rhythm_from_beats(np.zeros(21), rr, np.full(21, 0.34), est)
+    assert not r.irregular
+    assert r.heart_rate_bpm == pytest.approx(60.0 * 21 / rr.sum())
+
+
 def test_regression_band_used_is_weissler():
     # The systolic interval the segmenter assumes follows the Weissler et al. 1968 QS2
     # regression minus the Q-M1 delay: at 60 bpm 0.546 - 0.126 - 0.050 = 0.370 s.

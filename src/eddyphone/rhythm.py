@@ -350,11 +350,11 @@ def rhythm_from_beats(s1_onsets_s: np.ndarray, rr_s: np.ndarray, systoles_s: np.
     sys_s = float(np.median(systoles_s)) if len(systoles_s) else estimate.systolic_interval_s
     if len(rr) >= 2 and mean:
         hr = 60.0 / mean
-        # In a steady rhythm an interval near twice the median hides a missed beat:
-        # count it as that many beats for the rate (the RR series is kept as found).
+        # In a rhythm that is not irregular (premature beats allowed) an interval near
+        # twice the median hides a missed beat: count it as that many beats for the
+        # rate (the RR series is kept as found).
         med = float(np.median(rr))
-        steady = rr[rr <= 1.5 * med]
-        if len(steady) >= 3 and np.std(steady) / np.mean(steady) < 0.08:
+        if len(rr) >= 3 and not irregular:
             n_beats = np.where(rr > 1.7 * med, np.round(rr / med), 1.0)
             hr = 60.0 * float(np.sum(n_beats)) / float(np.sum(rr))
         agree = float(np.exp(-abs(hr - estimate.heart_rate_bpm) / 10.0))
