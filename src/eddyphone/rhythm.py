@@ -64,7 +64,7 @@ class Rhythm:
     Attributes
     ----------
     heart_rate_bpm : float
-        ``60 / rr_mean_s`` when beats were found (in a steady rhythm an interval near
+        ``60 / rr_mean_s`` when beats were found (unless the rhythm is irregular, an interval near
         a multiple of the median counts as that many beats), else the
         autocorrelation estimate.
     systolic_interval_s : float
