@@ -286,7 +286,7 @@ def test_beat_whose_s1_is_cut_by_the_stretch_start_is_left_out():
 
 
 def test_doubtful_beat_folded_only_in_irregular_rhythm():
-    from eddyphone.segment import _prune_doubtful_beats
+    from eddyphone.segment.support import fold_doubtful_beats
 
     def cycle(rr_frames: list[int], weak: int) -> tuple[list, list]:
         segs, scores, t = [], [], 0
@@ -300,10 +300,11 @@ def test_doubtful_beat_folded_only_in_irregular_rhythm():
     cfg = SegmentConfig()
     irregular = [40, 70, 30, 55, 80, 35, 60, 45]  # RR coefficient of variation about 0.3
     segs, scores = cycle(irregular, weak=3)
-    out, out_scores = _prune_doubtful_beats(segs, scores, cfg)
+    fold = (cfg.doubtful_beat_support, cfg.doubtful_beat_margin, cfg.irregular_rr_cv)
+    out, out_scores = fold_doubtful_beats(segs, scores, *fold)
     assert len(out) == len(segs) - 4 and len(out_scores) == len(out)
     merged = [s for s in out if s[2] == 3 and s[1] - s[0] > 60]
     assert merged and merged[0][0] == segs[11][0] and merged[0][1] == segs[15][1]
     # the same weak beat in a steady rhythm is kept: the duration laws vouch for it
     segs, scores = cycle([50] * 8, weak=3)
-    assert _prune_doubtful_beats(segs, scores, cfg)[0] == segs
+    assert fold_doubtful_beats(segs, scores, *fold)[0] == segs

@@ -27,12 +27,12 @@ from eddyphone.rhythm import (
     Rhythm,
     period_candidates,
     rhythm_from_beats,
-    rr_statistics,
 )
 from eddyphone.segment.beats import Beat, Segment, beats_from_segments
 from eddyphone.segment.durations import STATES, duration_tables, state_durations
 from eddyphone.segment.emissions import FEATURE_NAMES, EmissionModel, frame_features
 from eddyphone.segment.hsmm import viterbi_cyclic
+from eddyphone.segment.support import fold_doubtful_beats, segment_support
 
 __all__ = ["Beat", "Segment", "SegmentConfig", "Segmentation", "segment"]
 
@@ -433,67 +433,6 @@ def _decode_chunk(loglik: np.ndarray, homo: np.ndarray, tilt: np.ndarray, sound:
     return _Decoded(starts, ends, states, est)
 
 
-def _segment_scores(segs: list[tuple[int, int, int]], sound: np.ndarray, a: int
-                    ) -> list[float]:
-    """Mean frame support of each segment: P(sound) for S1/S2, P(silence) otherwise."""
-    if not segs:
-        return []
-    rows = np.array(segs)
-    s, e, k = rows[:, 0] - a, rows[:, 1] - a, rows[:, 2]
-    cum = np.concatenate([[0.0], np.cumsum(sound)])
-    p = (cum[e] - cum[s]) / (e - s)
-    return np.where((k == 0) | (k == 2), p, 1.0 - p).tolist()
-
-
-def _prune_doubtful_beats(segs: list[tuple[int, int, int]], scores: list[float],
-                          cfg: SegmentConfig) -> tuple[list[tuple[int, int, int]], list[float]]:
-    """Fold weakly supported beats of an irregular rhythm into the diastole around them.
-
-    In a regular rhythm the duration laws keep invented beats out; in an irregular
-    one any interval is plausible, so a breath or rub sound in a long diastole can
-    be read as a beat. A beat (S1, systole, S2 between two diastoles) is folded into
-    one diastole when the rhythm of the stretch is irregular (by
-    :func:`eddyphone.rhythm.rr_statistics`), its support (geometric
-    mean of its four segments' scores) is below ``cfg.doubtful_beat_support`` and at
-    least ``cfg.doubtful_beat_margin`` below the median beat of the stretch.
-    """
-    labels = [k for _, _, k in segs]
-    beats = [i for i in range(1, len(segs) - 3) if labels[i - 1: i + 4] == [3, 0, 1, 2, 3]]
-    s1_onsets = np.array([segs[i][0] for i in beats], dtype=float)
-    if len(beats) < 4:
-        return segs, scores
-    if not rr_statistics(np.diff(s1_onsets), irregular_cv=cfg.irregular_rr_cv)[2]:
-        return segs, scores
-    logs = np.log(np.clip(scores, 1e-6, 1.0))
-    support = np.array([np.exp(np.mean(logs[i: i + 4])) for i in beats])
-    limit = min(cfg.doubtful_beat_support, float(np.median(support)) - cfg.doubtful_beat_margin)
-    doubtful = {i for i, sup in zip(beats, support, strict=True) if sup < limit}
-    if not doubtful:
-        return segs, scores
-    out_segs: list[tuple[int, int, int]] = []
-    out_scores: list[float] = []
-    skip_to = -1
-    for i, (seg, score) in enumerate(zip(segs, scores, strict=True)):
-        if i < skip_to:
-            continue
-        if i + 1 in doubtful and seg[2] == 3:
-            # diastole, S1, systole, S2, diastole -> one diastole
-            j = i + 4
-            while j + 1 in doubtful:  # consecutive doubtful beats fold together
-                j += 4
-            span = range(i, j + 1)
-            length = sum(segs[k][1] - segs[k][0] for k in span)
-            merged = sum((1.0 - scores[k] if segs[k][2] in (0, 2) else scores[k])
-                         * (segs[k][1] - segs[k][0]) for k in span) / length
-            out_segs.append((seg[0], segs[j][1], 3))
-            out_scores.append(merged)
-            skip_to = j + 1
-            continue
-        out_segs.append(seg)
-        out_scores.append(score)
-    return out_segs, out_scores
-
-
 def _usable_runs(n_frames: int, ffs: float, quality, min_run_s: float,
                  silent: np.ndarray | None = None
                  ) -> tuple[list[tuple[int, int]], list[tuple[float, float, str]]]:
@@ -642,7 +581,9 @@ def segment(x: np.ndarray, fs: float, *, quality=None,
         segs, ests, post = _decode_run(feat, env.homomorphic, model, ffs, cfg, a, b)
         estimates.extend(ests)
         sound = post[:, 0] + post[:, 2]
-        segs, seg_scores = _prune_doubtful_beats(segs, _segment_scores(segs, sound, a), cfg)
+        segs, seg_scores = fold_doubtful_beats(segs, segment_support(segs, sound, a),
+                                               cfg.doubtful_beat_support,
+                                               cfg.doubtful_beat_margin, cfg.irregular_rr_cv)
         segments.extend(Segment(s / ffs, e / ffs, STATES[k]) for s, e, k in segs)
         scores.extend(seg_scores)
 

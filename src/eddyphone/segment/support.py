@@ -1,0 +1,93 @@
+"""Frame support of decoded segments, and folding of weakly supported beats.
+
+Public API
+----------
+segment_support
+    Mean frame probability of each segment's kind (sound or silence).
+fold_doubtful_beats
+    Beats of an irregular rhythm that the frames barely support, folded into diastole.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from eddyphone.rhythm import rr_statistics
+
+
+def segment_support(segs: list[tuple[int, int, int]], sound: np.ndarray, a: int
+                    ) -> list[float]:
+    """Mean frame support of each segment: P(sound) for S1/S2, P(silence) otherwise.
+
+    ``segs`` are (start, end, state) in absolute frames; ``sound`` holds P(S1 or S2)
+    of the stretch's frames, its first value being frame ``a``.
+    """
+    if not segs:
+        return []
+    rows = np.array(segs)
+    s, e, k = rows[:, 0] - a, rows[:, 1] - a, rows[:, 2]
+    cum = np.concatenate([[0.0], np.cumsum(sound)])
+    p = (cum[e] - cum[s]) / (e - s)
+    return np.where((k == 0) | (k == 2), p, 1.0 - p).tolist()
+
+
+def fold_doubtful_beats(segs: list[tuple[int, int, int]], scores: list[float],
+                        max_support: float, margin: float, irregular_cv: float,
+                        ) -> tuple[list[tuple[int, int, int]], list[float]]:
+    """Fold weakly supported beats of an irregular rhythm into the diastole around them.
+
+    In a regular rhythm the duration laws keep invented beats out; in an irregular
+    one any interval is plausible, so a breath or rub sound in a long diastole can
+    be read as a beat. A beat (S1, systole, S2 between two diastoles) is folded into
+    one diastole when the rhythm of the stretch is irregular (by
+    :func:`eddyphone.rhythm.rr_statistics` with ``irregular_cv``), its support
+    (geometric mean of its four segments' scores) is below ``max_support`` and at
+    least ``margin`` below the median beat of the stretch.
+
+    Parameters
+    ----------
+    segs : list of (start frame, end frame, state)
+        One decoded stretch, in time order.
+    scores : list of float
+        :func:`segment_support` of each segment.
+
+    Returns
+    -------
+    segs, scores
+        With every doubtful beat and the diastoles around it made one diastole.
+    """
+    labels = [k for _, _, k in segs]
+    beats = [i for i in range(1, len(segs) - 3) if labels[i - 1: i + 4] == [3, 0, 1, 2, 3]]
+    s1_onsets = np.array([segs[i][0] for i in beats], dtype=float)
+    if len(beats) < 4:
+        return segs, scores
+    if not rr_statistics(np.diff(s1_onsets), irregular_cv=irregular_cv)[2]:
+        return segs, scores
+    logs = np.log(np.clip(scores, 1e-6, 1.0))
+    support = np.array([np.exp(np.mean(logs[i: i + 4])) for i in beats])
+    limit = min(max_support, float(np.median(support)) - margin)
+    doubtful = {i for i, sup in zip(beats, support, strict=True) if sup < limit}
+    if not doubtful:
+        return segs, scores
+    out_segs: list[tuple[int, int, int]] = []
+    out_scores: list[float] = []
+    skip_to = -1
+    for i, (seg, score) in enumerate(zip(segs, scores, strict=True)):
+        if i < skip_to:
+            continue
+        if i + 1 in doubtful and seg[2] == 3:
+            # diastole, S1, systole, S2, diastole -> one diastole
+            j = i + 4
+            while j + 1 in doubtful:  # consecutive doubtful beats fold together
+                j += 4
+            span = range(i, j + 1)
+            length = sum(segs[k][1] - segs[k][0] for k in span)
+            merged = sum((1.0 - scores[k] if segs[k][2] in (0, 2) else scores[k])
+                         * (segs[k][1] - segs[k][0]) for k in span) / length
+            out_segs.append((seg[0], segs[j][1], 3))
+            out_scores.append(merged)
+            skip_to = j + 1
+            continue
+        out_segs.append(seg)
+        out_scores.append(score)
+    return out_segs, out_scores
