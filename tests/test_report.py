@@ -191,3 +191,26 @@ def test_report_without_findings_or_explanation_says_so(analysis, tmp_path):
     assert "did not run for this report" in html
     assert "mechanisms" not in {k.removeprefix("figure_") for k in paths}
     assert _pdf_text(paths["pdf"]).count("did not run") >= 2
+
+
+def test_heart_rate_reads_the_same_in_summary_and_rhythm_section():
+    # 80.51 bpm: the summary keeps 80.5 and shows 80; the rhythm section must not show 81.
+    from dataclasses import replace
+    from types import SimpleNamespace
+
+    from eddyphone.report import text
+    from eddyphone.rhythm import Rhythm
+
+    rhythm = Rhythm(80.51, 0.34, (0.745,) * 19, 0.745, 0.02, False, 0.8, "beats")
+    seg = SimpleNamespace(rhythm=rhythm, beats=(), segments=(), method="m")
+    summary = {"heart_rate_bpm": round(rhythm.heart_rate_bpm, 1), "rhythm": "regular"}
+    analysis = SimpleNamespace(segmentation=seg, summary=lambda: summary, findings=None,
+                               explanation=None,
+                               quality=SimpleNamespace(score=1.0, usable=True))
+    shown = dict(text.headline(analysis))["Heart rate"]
+    assert shown == "80 bpm"
+    assert text.rhythm_lines(analysis)[0].startswith(f"Heart rate {shown} ")
+    seg.rhythm = replace(rhythm, heart_rate_bpm=80.56)  # 80.6 in the summary: 81 both
+    summary["heart_rate_bpm"] = 80.6
+    assert dict(text.headline(analysis))["Heart rate"] == "81 bpm"
+    assert text.rhythm_lines(analysis)[0].startswith("Heart rate 81 bpm ")

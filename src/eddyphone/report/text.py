@@ -277,7 +277,8 @@ def rhythm_lines(analysis: Any) -> list[str]:
     if not finite_positive(r.heart_rate_bpm):
         return [f"No heart rate was found ({len(seg.beats)} beats segmented); see the quality "
                 "section for why."]
-    lines = [f"Heart rate {r.heart_rate_bpm:.0f} bpm ({r.method}), "
+    # from the summary's 0.1-bpm value, so the two never differ by a rounding step
+    lines = [f"Heart rate {round(r.heart_rate_bpm, 1):.0f} bpm ({r.method}), "
              f"{'irregular' if r.irregular else 'regular'} rhythm, "
              f"confidence {r.confidence:.2f}."]
     if r.rr_mean_s is not None:
