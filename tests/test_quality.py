@@ -118,3 +118,19 @@ def test_window_measures_equal_measuring_each_window_alone(window_s):
         assert w.measures.spikes_per_min == pytest.approx(despike(heart[a:b], FS)[1] / minutes)
     assert any(w.measures.spikes_per_min > 0 for w in q.windows)
     assert any(w.measures.clipping_fraction > 0 for w in q.windows)
+
+
+def test_clear_heart_sounds_without_periodicity_stay_usable_even_with_hum():
+    # Common practice: atrial fibrillation is a rhythm, not a recording fault. Hand
+    # computed: contrast 16 dB ramps to (16 - 6) / (18 - 6) = 0.833; periodicity 0.1 is
+    # below the poor value (sub-score 0); hum costs 10 %. Score 0.833 * 0.6 * 0.9 = 0.45,
+    # above the usable threshold of 0.35 (at a floor of 0.4 it was 0.30, unusable).
+    from eddyphone.quality import QualityMeasures, _score
+
+    m = QualityMeasures(contrast_db=16.0, periodicity=0.1, clipping_fraction=0.0,
+                        spikes_per_min=0.0, hum_hz=60.0)
+    score, reasons = _score(m, QualityConfig())
+    assert score == pytest.approx(10 / 12 * 0.6 * 0.9)
+    assert score >= QualityConfig().usable_threshold
+    assert any("periodicity" in r for r in reasons)  # still named as a reason
+    assert _score(m, QualityConfig(periodicity_floor=0.4))[0] == pytest.approx(10 / 12 * 0.4 * 0.9)
