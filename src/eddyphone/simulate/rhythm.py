@@ -14,6 +14,10 @@ from dataclasses import dataclass
 
 import numpy as np
 
+#: Shortest beat-to-beat interval the simulator makes, s (about the ventricular
+#: refractory period, from memory).
+SHORTEST_RR_S = 0.26
+
 #: Time step of the coarse grid that rhythm and breathing live on, in s.
 GRID_DT_S = 0.01
 
@@ -140,7 +144,7 @@ def beat_times(*, heart_rate_bpm: float, rhythm: str, duration_s: float,
         n_max = int((t_end - t0) / (0.45 * mean_rr)) + 4
         sigma = np.sqrt(np.log(1 + cv**2))
         rr = mean_rr * np.exp(rng.normal(-0.5 * sigma**2, sigma, n_max))
-        rr = np.clip(rr, max(0.26, 0.45 * mean_rr), 2.5)
+        rr = np.clip(rr, max(SHORTEST_RR_S, 0.45 * mean_rr), 2.5)
         onsets = t0 + np.concatenate([[0.0], np.cumsum(rr)])
         onsets = onsets[: np.searchsorted(onsets, t_end) + 1]
     premature = np.zeros(len(onsets), dtype=bool)
@@ -149,7 +153,10 @@ def beat_times(*, heart_rate_bpm: float, rhythm: str, duration_s: float,
             if premature[i - 1] or rng.uniform() >= ectopic_rate:
                 continue
             normal_rr = onsets[i] - onsets[i - 1]
-            onsets[i] = onsets[i - 1] + rng.uniform(0.55, 0.75) * normal_rr
+            coupling = rng.uniform(0.55, 0.75) * normal_rr
+            # no beat inside the refractory period of the one before (at fast rates
+            # 55 % of the cycle would be under 0.15 s)
+            onsets[i] = onsets[i - 1] + max(coupling, SHORTEST_RR_S)
             premature[i] = True
     rr_s = np.diff(onsets)
     return Beats(s1_onset_s=onsets, rr_s=rr_s, premature=premature[:-1])
