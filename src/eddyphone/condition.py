@@ -7,6 +7,7 @@ bandpass_sos(fs, band_hz, order) the designed filter, for inspection
 zero_phase(sos, zi, x, padlen)   forward-backward filtering (as scipy.signal.sosfiltfilt)
 welch_psd(x, fs, nperseg)        averaged periodogram (as scipy.signal.welch)
 percentiles(a, q)                np.percentile (linear) by one partial sort
+hann_window(n)                   periodic Hann window, cached and read-only
 despike(x, fs, ...)              suppress friction and handling spikes
 detect_hum(x, fs)                mains-hum fundamental (50/60 Hz) or None
 remove_hum(x, fs, hum_hz, ...)   zero-phase notches at the hum and its harmonics
@@ -253,7 +254,7 @@ def welch_psd(x: np.ndarray, fs: float, nperseg: int) -> tuple[np.ndarray, np.nd
     step = nperseg - nperseg // 2
     if not 0 < nperseg <= len(x):
         raise ParameterError(f"nperseg={nperseg} must be between 1 and len(x)={len(x)}")
-    window = _hann(nperseg)
+    window = hann_window(nperseg)
     n_seg = (len(x) - nperseg) // step + 1
     segments = np.lib.stride_tricks.sliding_window_view(x, nperseg)[::step][:n_seg]
     total = np.zeros(nperseg // 2 + 1)
@@ -268,8 +269,9 @@ def welch_psd(x: np.ndarray, fs: float, nperseg: int) -> tuple[np.ndarray, np.nd
     return np.arange(len(power)) * (fs / nperseg), power
 
 
-@lru_cache(maxsize=8)
-def _hann(n: int) -> np.ndarray:
+@lru_cache(maxsize=16)
+def hann_window(n: int) -> np.ndarray:
+    """Periodic Hann window of ``n`` samples (``scipy.signal.get_window``), cached, read-only."""
     return _frozen(signal.get_window("hann", n))
 
 

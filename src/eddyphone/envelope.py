@@ -35,7 +35,7 @@ import numpy as np
 import scipy.fft
 import scipy.signal
 
-from eddyphone.condition import zero_phase
+from eddyphone.condition import hann_window, zero_phase
 from eddyphone.errors import InputError, ParameterError
 
 #: Default feature rate in Hz (one frame per 20 ms).
@@ -208,14 +208,7 @@ def _frames(x: np.ndarray, hop: int) -> np.ndarray:
     pad = np.zeros(n * hop + hop // 2 + width, dtype=x.dtype)
     pad[hop // 2: hop // 2 + n * hop] = x[: n * hop]
     frames = np.lib.stride_tricks.sliding_window_view(pad, width)[: n * hop: hop]
-    return frames * _hann(width).astype(x.dtype)
-
-
-@lru_cache(maxsize=16)
-def _hann(width: int) -> np.ndarray:
-    window = scipy.signal.get_window("hann", width)
-    window.setflags(write=False)
-    return window
+    return frames * hann_window(width).astype(x.dtype)
 
 
 @lru_cache(maxsize=32)
@@ -235,7 +228,7 @@ def _band_rms(spec: np.ndarray, width: int, fs: float,
     """RMS amplitude in a band from the spectrum of Hann-windowed frames ``width`` long."""
     band = spec[:, _band_bins(width, float(fs), (float(band_hz[0]), float(band_hz[1])))]
     power = np.sum(band.real ** 2 + band.imag ** 2, axis=1, dtype=np.float64)
-    win = _hann(width)
+    win = hann_window(width)
     # One-sided bins count twice (positive and negative frequency).
     return np.sqrt(2.0 * power / (width * float(np.sum(win * win))))
 
