@@ -115,6 +115,16 @@ def test_welch_psd_equals_scipy_welch(n, nperseg):
     np.testing.assert_allclose(p, p_ref, rtol=1e-9, atol=1e-12 * p_ref.max())
 
 
+def test_welch_psd_in_single_precision_stays_close_to_scipy_welch():
+    # Reference: scipy.signal.welch in double precision; single-precision transforms keep
+    # about seven significant digits (IEEE 754 binary32), so 1e-5 of the peak is ample.
+    x = np.random.default_rng(7).standard_normal(80_000)
+    _, p_ref = signal.welch(x, fs=FS, nperseg=16_000)
+    _, p = welch_psd(x.astype(np.float32), FS, 16_000)
+    assert p.dtype == np.float64
+    np.testing.assert_allclose(p, p_ref, rtol=0, atol=1e-5 * p_ref.max())
+
+
 @pytest.mark.parametrize("mains", [50.0, 60.0])
 def test_remove_hum_equals_scipy_notch_chain(mains):
     # Reference: scipy.signal.iirnotch + scipy.signal.filtfilt at each harmonic in turn.

@@ -195,7 +195,9 @@ def despike(x: np.ndarray, fs: float, *, threshold: float = 3.0, window_s: float
 def detect_hum(x: np.ndarray, fs: float, *, prominence_db: float = 8.0) -> float | None:
     """Return 50.0 or 60.0 when that mains line stands out of the spectrum, else None."""
     nperseg = int(min(len(x), 4 * fs))
-    freqs, power = welch_psd(x, fs, nperseg)
+    # Single precision halves the transforms' time; the prominences compared below are
+    # dB ratios of averaged powers, far coarser than its rounding.
+    freqs, power = welch_psd(np.asarray(x, dtype=np.float32), fs, nperseg)
     step_hz = fs / nperseg
     best, best_prominence = None, prominence_db
     for mains in (50.0, 60.0):
@@ -248,13 +250,16 @@ def welch_psd(x: np.ndarray, fs: float, nperseg: int) -> tuple[np.ndarray, np.nd
     Periodic Hann window, half-overlapping segments, each segment's mean removed,
     density scaling (units squared per Hz), mean over segments. Written out because
     scipy's general version spends most of its time on set-up for short input.
+    Single-precision input is transformed in single precision (sums in double).
     """
-    x = np.asarray(x, dtype=np.float64)
+    x = np.asarray(x)
+    if x.dtype != np.float32:
+        x = x.astype(np.float64, copy=False)
     nperseg = int(nperseg)
     step = nperseg - nperseg // 2
     if not 0 < nperseg <= len(x):
         raise ParameterError(f"nperseg={nperseg} must be between 1 and len(x)={len(x)}")
-    window = hann_window(nperseg)
+    window = hann_window(nperseg).astype(x.dtype, copy=False)
     n_seg = (len(x) - nperseg) // step + 1
     segments = np.lib.stride_tricks.sliding_window_view(x, nperseg)[::step][:n_seg]
     total = np.zeros(nperseg // 2 + 1)
@@ -262,9 +267,9 @@ def welch_psd(x: np.ndarray, fs: float, nperseg: int) -> tuple[np.ndarray, np.nd
         block = segments[a: a + _WELCH_BLOCK]
         block = (block - block.mean(axis=1, keepdims=True)) * window
         spec = scipy.fft.rfft(block, axis=1)
-        total += np.sum(spec.real ** 2 + spec.imag ** 2, axis=0)
+        total += np.sum(spec.real ** 2 + spec.imag ** 2, axis=0, dtype=np.float64)
     # No BLAS call (np.dot) here: on a busy machine its threads can cost milliseconds.
-    power = total * (1.0 / (n_seg * fs * float(np.sum(window * window))))
+    power = total * (1.0 / (n_seg * fs * float(np.sum(hann_window(nperseg) ** 2))))
     power[1: None if nperseg % 2 else -1] *= 2.0  # both signs of frequency, not DC/Nyquist
     return np.arange(len(power)) * (fs / nperseg), power
 
