@@ -218,7 +218,8 @@ def benchmark_specs(n: int, *, seed: int = 0, duration_s: float = 15.0) -> list[
 
 _INDEX_FIELDS = ["id", "file", "truth_csv", "truth_json", "heart_rate_bpm", "rhythm",
                  "n_premature", "fs_hz", "duration_s", "snr_db", "device", "site",
-                 "murmur_present", "murmur_cause", "murmur_phase", "murmur_timing",
+                 "murmur_present", "murmur_audible_in_recording", "murmur_to_noise_db",
+                 "murmur_cause", "murmur_phase", "murmur_timing",
                  "murmur_shape", "murmur_measured_timing", "murmur_measured_shape",
                  "murmur_grade", "murmur_level_db_re_s1", "murmur_pitch", "murmur_quality",
                  "murmur_centre_hz", "reynolds", "peak_velocity_m_s", "diameter_m",
@@ -237,7 +238,11 @@ def _index_row(case_id: str, sim, spec: CaseSpec) -> dict:
         "rhythm": spec.rhythm, "n_premature": t["rhythm"]["n_premature"],
         "fs_hz": int(spec.fs), "duration_s": spec.duration_s,
         "snr_db": round(t["noise"]["snr_db"], 2), "device": spec.device, "site": spec.site,
-        "murmur_present": m["present"], "murmur_cause": m["cause"],
+        "murmur_present": m["present"],
+        "murmur_audible_in_recording": m.get("audible_in_recording", False),
+        "murmur_to_noise_db": round(m["murmur_to_noise_db"], 1)
+        if m.get("murmur_to_noise_db") is not None else "",
+        "murmur_cause": m["cause"],
         "murmur_phase": m.get("phase", ""), "murmur_timing": m.get("timing", ""),
         "murmur_shape": m.get("shape", ""),
         "murmur_measured_timing": (m.get("measured") or {}).get("timing") or "",

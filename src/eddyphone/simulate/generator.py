@@ -10,12 +10,14 @@ from scipy import signal
 from eddyphone import physiology
 from eddyphone._version import __version__
 from eddyphone.simulate import chain
-from eddyphone.simulate.murmurs import PHASE, plan_murmur, render_murmur
+from eddyphone.simulate.murmurs import GRADE_EDGES_DB, PHASE, plan_murmur, render_murmur
 from eddyphone.simulate.rhythm import BreathTrack, beat_times, breathing_track
 from eddyphone.simulate.sounds import Timbre, add_component
 from eddyphone.simulate.spec import CaseSpec
 from eddyphone.simulate.truth import (
     TRUTH_SCHEMA_VERSION,
+    audibility,
+    murmur_to_noise_db,
     profile_fractions,
     shape_from_profile,
     timing_from_fractions,
@@ -477,6 +479,14 @@ def generate(spec: CaseSpec, *, seed: int | None = None) -> Simulated:
     sounds_dev = cardiac - murmur_dev if plan is not None else cardiac
     parts = {"cardiac": cardiac * gain, "sounds": sounds_dev * gain, "murmur": murmur_dev * gain,
              "noise": noise * gain}
+    if plan is not None:
+        mnr = murmur_to_noise_db(parts["murmur"], parts["noise"], fs, murmur_truth["spans"])
+        carried, why = audibility(murmur_truth["level_db_re_s1"], mnr, GRADE_EDGES_DB[0])
+        murmur_truth.update({"murmur_to_noise_db": mnr, "audible_in_recording": carried,
+                             "inaudible_reason": why})
+    else:
+        murmur_truth.update({"murmur_to_noise_db": None, "audible_in_recording": False,
+                             "inaudible_reason": "no murmur"})
     return Simulated(x=x, fs=fs, segments=tuple(segments), events=ev, murmur_spans=sp_in,
                      truth=truth, parts=parts)
 
@@ -526,7 +536,10 @@ def _murmur_truth(plan, murmur, sounds, beat_rows, spans, profiles, fs, spec, si
                   sinus, s1_cause, a2_cause) -> dict:
     from eddyphone.simulate.murmurs import pitch_word, spectrum_summary
 
-    summary = spectrum_summary(min(plan.break_frequency_hz, 0.4 * fs), fs)
+    fb = min(plan.break_frequency_hz, 0.4 * fs)
+    summary = spectrum_summary(fb, fs, chest_wall_cutoff_hz=spec.chest_wall_cutoff_hz,
+                               tone_hz=plan.tone_hz)
+    source = spectrum_summary(fb, fs)
     env = np.abs(murmur)
     # smooth envelope (20 ms RMS) for the profile measurement
     k = max(int(0.02 * fs), 1)
@@ -581,6 +594,11 @@ def _murmur_truth(plan, murmur, sounds, beat_rows, spans, profiles, fs, spec, si
         "pitch": pitch_word(summary["centre_hz"]),
         "centre_hz": summary["centre_hz"],
         "pitch_band_hz": summary["band_hz"],
+        "pitch_reference": "at the chest surface: source (and shed tone) after the chest "
+                           "wall, before the device",
+        "pitch_source": pitch_word(source["centre_hz"]),
+        "centre_hz_source": source["centre_hz"],
+        "pitch_band_hz_source": source["band_hz"],
         "break_frequency_hz": plan.break_frequency_hz,
         "level_db_re_s1": level,
         "level_db_re_s1_at_reference_site": plan.level_db_re_s1,

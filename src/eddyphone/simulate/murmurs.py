@@ -96,7 +96,9 @@ FULL_TURBULENCE_FACTOR = 10.0
 #: thrill clinically; here they only mean "as loud as or louder than S1".
 GRADE_EDGES_DB = (-20.0, -13.0, -6.0, 0.0, 6.0)
 
-#: Pitch words from the spectral centroid of the source, Hz (our own cut points).
+#: Pitch words from the spectral centroid, Hz (our own cut points). The truth's
+#: ``pitch`` takes the centroid as the murmur reaches the chest surface (after the
+#: chest wall, before the device); ``pitch_source`` that of the source.
 PITCH_EDGES_HZ = (180.0, 400.0)
 
 #: Strouhal number of vortex shedding behind a thin cylinder, about 0.2 over Re
@@ -175,11 +177,41 @@ def source_spectrum(f_hz: np.ndarray, break_hz: float | np.ndarray) -> np.ndarra
     return r**2 / (1 + r**2) / (1 + (f / fb) ** 4)
 
 
-def spectrum_summary(break_hz: float, fs: float) -> dict:
-    """Centroid and half-power band of :func:`source_spectrum` (Hz) up to ``fs/2``."""
+def chest_wall_gain(f_hz: np.ndarray, cutoff_hz: float, fs: float) -> np.ndarray:
+    """Power gain at ``f_hz`` of the chest wall as rendered
+    (:func:`eddyphone.simulate.chain.chest_wall`: a digital 2nd-order Butterworth
+    low-pass with its corner at ``cutoff_hz``, at most 0.45 ``fs``)."""
+    sos = signal.butter(2, min(cutoff_hz, 0.45 * fs), "low", fs=fs, output="sos")
+    _, h = signal.sosfreqz(sos, worN=np.asarray(f_hz, dtype=float), fs=fs)
+    return np.abs(h) ** 2
+
+
+def spectrum_summary(break_hz: float, fs: float, *, chest_wall_cutoff_hz: float | None = None,
+                     tone_hz: float | None = None) -> dict:
+    """Centroid and half-power band (Hz) of the murmur's spectrum up to ``fs/2``.
+
+    By default the source alone (:func:`source_spectrum`). With
+    ``chest_wall_cutoff_hz`` the spectrum as it reaches the chest surface (times
+    :func:`chest_wall_gain`); with ``tone_hz`` the shed tone and its two harmonics
+    (amplitudes 1, 0.35, 0.12) carry ``TONE_FRACTION`` of the power, as rendered.
+    """
     f = np.linspace(0.5, fs / 2, 4000)
     p = source_spectrum(f, break_hz)
+    p = p / p.sum()
+    if tone_hz:
+        tone = np.zeros_like(f)
+        amps = np.array([1.0, 0.35, 0.12]) ** 2
+        for k, a in enumerate(amps, start=1):
+            if k * tone_hz < fs / 2:
+                tone[int(np.argmin(np.abs(f - k * tone_hz)))] += a / amps.sum()
+        p = (1.0 - TONE_FRACTION) * p + TONE_FRACTION * tone
+    if chest_wall_cutoff_hz is not None:
+        p = p * chest_wall_gain(f, chest_wall_cutoff_hz, fs)
     centre = float(np.sum(f * p) / np.sum(p))
+    if tone_hz:
+        # half-power band of the noise part (a line has no band)
+        p = source_spectrum(f, break_hz) * (chest_wall_gain(f, chest_wall_cutoff_hz, fs)
+                                            if chest_wall_cutoff_hz is not None else 1.0)
     above = f[p >= 0.5 * p.max()]
     return {"centre_hz": centre, "band_hz": [float(above[0]), float(above[-1])]}
 

@@ -10,18 +10,32 @@ profile_fractions
     Onset, peak and end of a murmur as fractions of its phase window.
 timing_from_fractions, shape_from_profile
     The rules that turn a measured profile into timing and shape words.
+murmur_to_noise_db
+    What the recording carries: the murmur over the noise in its spans, best band.
+audibility
+    Whether the recording carries the murmur at all, and why not.
 """
 
 from __future__ import annotations
 
 import numpy as np
 
-TRUTH_SCHEMA_VERSION = "1.0"
+TRUTH_SCHEMA_VERSION = "1.1"
 
 SEGMENT_LABELS = ("S1", "systole", "S2", "diastole")
 
 #: Labels of ``Simulated.events``: valve components and extra sounds.
 EVENT_LABELS = ("M1", "T1", "A2", "P2", "S3", "S4", "click", "snap")
+
+#: Bands (Hz) in which the recorded murmur-to-noise ratio is measured: octave-wide
+#: over 25-900 Hz, where heart sounds and murmurs lie (common practice); the same
+#: bands as ``eddyphone.findings.config.ANALYSIS_BANDS_HZ``.
+MNR_BANDS_HZ = ((25.0, 75.0), (75.0, 150.0), (150.0, 300.0), (300.0, 600.0), (600.0, 900.0))
+
+#: Recorded murmur-to-noise ratio (dB, best band) from which a murmur counts as
+#: carried by the recording: its power at least equals the noise's in some band
+#: while it sounds (our own convention).
+MIN_MURMUR_TO_NOISE_DB = 0.0
 
 #: Rows added to ``<id>.truth.csv`` after the segments: extra sounds and murmur spans.
 CSV_EXTRA_LABELS = ("S3", "S4", "click", "snap", "murmur")
@@ -95,3 +109,46 @@ def shape_from_profile(profile_db: np.ndarray) -> str:
     if k >= 8:
         return "crescendo"
     return "crescendo-decrescendo"
+
+
+def murmur_to_noise_db(murmur: np.ndarray, noise: np.ndarray, fs: float,
+                       spans: list[tuple[float, float]] | list[list[float]]) -> float | None:
+    """Recorded murmur-to-noise power ratio (dB) inside the murmur's spans, in the best
+    of :data:`MNR_BANDS_HZ` (what a band-selective listener could get).
+
+    ``murmur`` and ``noise`` are the parts as recorded (after chest wall, device and
+    gain). Bands reaching past 0.45 ``fs`` are skipped. ``None`` without spans or
+    murmur.
+    """
+    from eddyphone.condition import bandpass
+
+    if not len(spans) or not np.any(murmur):
+        return None
+    sel = np.zeros(len(murmur), dtype=bool)
+    for a, b in spans:
+        sel[int(a * fs): int(b * fs)] = True
+    if not sel.any():
+        return None
+    best = -np.inf
+    for lo, hi in MNR_BANDS_HZ:
+        if hi > 0.45 * fs:
+            continue
+        mb, nb = bandpass(murmur, fs, (lo, hi)), bandpass(noise, fs, (lo, hi))
+        best = max(best, float(10 * np.log10(max(np.mean(mb[sel] ** 2), 1e-30)
+                                             / max(np.mean(nb[sel] ** 2), 1e-30))))
+    return best
+
+
+def audibility(level_db_re_s1: float, mnr_db: float | None,
+               grade_i_edge_db: float) -> tuple[bool, str]:
+    """Whether the recording carries the murmur, and the reason when it does not.
+
+    Carried when its level reaches the grade I edge (``grade_i_edge_db`` re S1) and
+    its recorded murmur-to-noise ratio reaches :data:`MIN_MURMUR_TO_NOISE_DB`;
+    otherwise ``'below grade I'`` or ``'buried in noise'`` (both: the first).
+    """
+    if not np.isfinite(level_db_re_s1) or level_db_re_s1 < grade_i_edge_db:
+        return False, "below grade I"
+    if mnr_db is None or mnr_db < MIN_MURMUR_TO_NOISE_DB:
+        return False, "buried in noise"
+    return True, ""
