@@ -436,3 +436,35 @@ def test_faint_excess_in_few_beats_is_not_present():
     sim, f = _findings(spec)
     assert not sim.truth["murmur"]["present"]
     assert f.presence != "present", f.presence_reason
+
+
+@pytest.mark.parametrize("seed", [31, 32])
+def test_s4_beside_a_flow_murmur_is_an_s4(seed):
+    # An S4 (30-50 ms, 60-120 ms before S1; common practice, physiology.S4_*) beside a
+    # soft systolic flow murmur: the murmur is the systolic one, the S4 is reported as
+    # an extra sound and not as a late-diastolic murmur. Reference: the simulator's
+    # truth (a systolic murmur and an S4 event).
+    spec = CaseSpec(murmur=CASES["high_flow"][0], site="pulmonic", snr_db=20,
+                    device="steep_tilt", heart_rate_bpm=90, s4=True, breathing=0.3,
+                    seed=seed)
+    sim, f = _findings(spec)
+    assert any(lab == "S4" for _, _, lab in sim.events)
+    m = f.main()
+    assert m is not None and m.phase == sim.truth["murmur"]["phase"] == "systolic"
+    assert not any(x.phase == "diastolic" and x.presence == "present" for x in f.murmurs)
+    assert "S4" in {e.kind for e in f.extra_sounds}
+
+
+@pytest.mark.parametrize("cause", ["systolic_leak", "narrowed_inflow"])
+def test_pitch_word_is_the_one_heard_at_the_chest(cause):
+    # Reference: the simulator's pitch word at the chest surface (its source spectrum
+    # through the chest wall), for a low rumble and a leak through a diaphragm and a
+    # steeply tilted chest piece (the device must not move the word).
+    murmur, site = CASES[cause]
+    for device in ("diaphragm", "steep_tilt"):
+        sim, f = _findings(CaseSpec(murmur=murmur, site=site, snr_db=20, device=device,
+                                    heart_rate_bpm=72, breathing=0.3, seed=15))
+        m = f.main()
+        assert m is not None, f.presence_reason
+        assert m.pitch == sim.truth["murmur"]["pitch"], (device, m.pitch,
+                                                          sim.truth["murmur"]["centre_hz"])

@@ -156,11 +156,21 @@ def _resolve_extra_vs_murmur(murmurs, extras):
     return tuple(keep), extras, notes
 
 
-def _brief_peak(profile, share: float = 0.2) -> bool:
-    """True when at most ``share`` of a murmur's window profile (peak 1) lies within
-    6 dB of its peak: an S3- or S4-like transient, not a sustained murmur."""
+def _brief_peak(profile, share: float = 0.2, wide_share: float = 0.25,
+                tail_share: float = 0.4) -> bool:
+    """True when a murmur's window profile (peak 1) looks like an S3 or S4, not a
+    sustained murmur: at most ``share`` of it within 6 dB of its peak, or at most
+    ``wide_share`` when no more than ``tail_share`` of it stays within 10 dB (a
+    rumble trailing on after its loudest part is a murmur). An S3 or S4 lasts
+    30-50 ms (``physiology.S3_DURATION_S``); smeared by the 32-ms frames and by its
+    drift across beats in the time-normalised window it can cover a quarter of a
+    short diastole (our own allowances)."""
     p = np.asarray(profile, dtype=float)
-    return bool(len(p)) and float(np.mean(p >= 0.25)) <= share
+    if not len(p):
+        return False
+    near, within10 = float(np.mean(p >= 0.25)), float(np.mean(p >= 0.1))
+    return near <= share + 1e-9 or (near <= wide_share + 1e-9
+                                    and within10 <= tail_share + 1e-9)
 
 
 def _window_spectrum_measures(spec, a: float, b: float, fs: float) -> tuple[float, float]:
