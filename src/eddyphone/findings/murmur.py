@@ -674,9 +674,17 @@ def find_murmurs(spec: Spectrogram, prof: Profiles, config: FindingsConfig) -> M
         # far it stands over its own noise floor (device-independent)
         prof_snr = _snr_profile(prof.power[use][:, c.window], noise_beat[use], bands)
         full = prof_snr / max(prof_snr.max(), 1e-30)
-        if (c.window == SYS and c.k1 >= n_bins - 1 and not continuous
+        # (a faint murmur's active run may stop short of S2 while its profile still
+        # runs on to it: the profile decides)
+        if (c.window == SYS and not continuous
                 and float(full[-SPILL_BINS:].mean()) >= SPILL_END_SHARE):
             hi_bands = [b for b in bands if spec.bands_hz[b][0] >= SPILL_LOWEST_BAND_HZ]
+            if not hi_bands:
+                # a murmur found only below 150 Hz (where S2's own energy also is) is
+                # checked in the band just above: a continuous murmur's spectrum
+                # reaches it, an S2 tail mostly does not
+                hi_bands = [b for b, (lo, _) in enumerate(spec.bands_hz)
+                            if lo >= SPILL_LOWEST_BAND_HZ][:1]
             through = _through_s2(R, hi_bands, n_bins)
             if _continues(through):
                 dia_w = _trimmed_mean(excess_beats[use][:, DIA], 0.15)
