@@ -134,3 +134,21 @@ def test_clear_heart_sounds_without_periodicity_stay_usable_even_with_hum():
     assert score >= QualityConfig().usable_threshold
     assert any("periodicity" in r for r in reasons)  # still named as a reason
     assert _score(m, QualityConfig(periodicity_floor=0.4))[0] == pytest.approx(10 / 12 * 0.4 * 0.9)
+
+
+def test_clipped_but_clear_heart_sounds_stay_usable():
+    # Clipping flattens peaks but keeps the timing of the sounds. Hand computed: full
+    # contrast and periodicity (sub-scores 1); 4 % clipped costs 0.5 * 4 / 5 = 40 %;
+    # hum 10 %: 0.6 * 0.9 = 0.54, usable (at 70 % per 2 % it was 0.27, and a clipped
+    # benchmark recording the segmenter reads perfectly was skipped whole).
+    from eddyphone.quality import QualityMeasures, _score
+
+    m = QualityMeasures(contrast_db=20.0, periodicity=0.7, clipping_fraction=0.04,
+                        spikes_per_min=0.0, hum_hz=50.0)
+    score, reasons = _score(m, QualityConfig())
+    assert score == pytest.approx(0.6 * 0.9)
+    assert score >= QualityConfig().usable_threshold
+    assert any(r.startswith("clipping") for r in reasons)
+    # Clipping alone never takes more than half a score.
+    worst = QualityMeasures(20.0, 0.7, 0.5, 0.0, None)
+    assert _score(worst, QualityConfig())[0] == pytest.approx(0.5)

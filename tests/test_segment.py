@@ -308,3 +308,72 @@ def test_doubtful_beat_folded_only_in_irregular_rhythm():
     # the same weak beat in a steady rhythm is kept: the duration laws vouch for it
     segs, scores = cycle([50] * 8, weak=3)
     assert fold_doubtful_beats(segs, scores, *fold)[0] == segs
+
+
+# --- half-rate readings -------------------------------------------------------------
+
+def _pulse_features(n_frames: int, onsets: list[int], tilts: list[float]) -> np.ndarray:
+    """Frame features (emissions.FEATURE_NAMES order) with a 4-frame sound at each onset."""
+    feats = np.zeros((n_frames, 7))
+    for a, tilt in zip(onsets, tilts, strict=True):
+        feats[a: a + 4, [0, 1, 3, 4]] = [1.0, 1.0, 1.0, 1.0]
+        feats[a: a + 4, 6] = tilt
+    return feats
+
+
+def _labelled(onsets: list[int], n_frames: int):
+    """Segments S1, systole, S2, diastole ... with a 4-frame sound at each onset."""
+    starts, ends, states = [], [], []
+    for i, a in enumerate(onsets):
+        nxt = onsets[i + 1] if i + 1 < len(onsets) else n_frames
+        starts += [a, a + 4]
+        ends += [a + 4, nxt]
+        states += [0, 1] if i % 2 == 0 else [2, 3]
+    return np.array(starts), np.array(ends), np.array(states)
+
+
+def test_one_sound_per_beat_read_as_s1_and_s2_looks_halved():
+    from eddyphone.segment.halving import looks_halved
+
+    # 170 bpm (period 17.6 frames at 50 Hz) with one sound per beat, RR varying:
+    # read as S1 + S2 at 85 bpm, the "systoles" vary as much as the "diastoles".
+    rng = np.random.default_rng(3)
+    rr = rng.uniform(15, 21, 60).round().astype(int)
+    onsets = list(np.cumsum(rr)[:-1])
+    n = int(onsets[-1] + 20)
+    feats = _pulse_features(n, onsets, [0.0] * len(onsets))
+    starts, ends, states = _labelled(onsets, n)
+    assert looks_halved(starts, ends, states, feats, period_frames=2 * float(np.mean(rr)))
+
+
+def test_real_s1_s2_cycle_does_not_look_halved():
+    from eddyphone.segment.halving import looks_halved
+
+    # 85 bpm: S1 (low tilt) then S2 (high tilt, common practice) after a steady
+    # systole of 16 frames; the RR changes land in diastole.
+    rng = np.random.default_rng(4)
+    onsets, tilts, t = [], [], 5
+    for _ in range(30):
+        onsets += [t, t + 16]
+        tilts += [-1.0, 1.0]
+        t += 16 + int(rng.integers(15, 22))
+    n = t + 20
+    feats = _pulse_features(n, onsets, tilts)
+    starts, ends, states = _labelled(onsets, n)
+    assert not looks_halved(starts, ends, states, feats, period_frames=35.0)
+    # The same sounds alike in pitch still keep their steady systole: not halved.
+    feats_alike = _pulse_features(n, onsets, [0.0] * len(onsets))
+    assert not looks_halved(starts, ends, states, feats_alike, period_frames=35.0)
+
+
+def test_fast_rhythm_with_a_soft_second_sound_is_not_read_at_half_rate():
+    # A benchmark case (draw 7, case 70: irregular at 164 bpm, 26 dB, one sound per
+    # beat clearly audible) that read 85 bpm before the half-rate check.
+    from eddyphone.simulate import benchmark_specs
+
+    spec = benchmark_specs(120, seed=7)[70]
+    sim, seg = _run(spec)
+    truth = sim.truth["rhythm"]["heart_rate_bpm"]
+    assert truth > 150
+    assert abs(seg.rhythm.heart_rate_bpm - truth) < 0.05 * truth
+    assert _sound_f1(sim, seg) >= 0.9

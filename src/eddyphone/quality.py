@@ -223,7 +223,9 @@ def _ramp(value: float, poor: float, good: float) -> float:
 def _score(m: QualityMeasures, config: QualityConfig) -> tuple[float, tuple[str, ...]]:
     s_contrast = _ramp(m.contrast_db, config.poor_contrast_db, config.good_contrast_db)
     s_period = _ramp(m.periodicity, config.poor_periodicity, config.good_periodicity)
-    penalty = (1 - 0.7 * min(m.clipping_fraction / 0.02, 1.0)) \
+    # Clipping flattens the loudest peaks but leaves the timing of the sounds, so on
+    # its own it at most halves a score (the findings' spectra are warned about).
+    penalty = (1 - 0.5 * min(m.clipping_fraction / 0.05, 1.0)) \
         * (1 - 0.5 * min(m.spikes_per_min / 60.0, 1.0)) * (0.9 if m.hum_hz else 1.0)
     # Contrast is necessary; periodicity adds confidence but an irregular rhythm
     # (atrial fibrillation) is not poor quality, so it alone can only lower the score

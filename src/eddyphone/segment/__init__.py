@@ -31,6 +31,7 @@ from eddyphone.rhythm import (
 from eddyphone.segment.beats import Beat, Segment, beats_from_segments
 from eddyphone.segment.durations import STATES, duration_tables, state_durations
 from eddyphone.segment.emissions import FEATURE_NAMES, EmissionModel, frame_features
+from eddyphone.segment.halving import looks_halved
 from eddyphone.segment.hsmm import viterbi_cyclic
 from eddyphone.segment.support import fold_doubtful_beats, segment_support
 
@@ -414,6 +415,15 @@ def _decode_chunk(loglik: np.ndarray, homo: np.ndarray, tilt: np.ndarray, sound:
         est = HeartRateEstimate(double, systolic_interval_s(double)[0], est.confidence)
     ld, ls = _tables(est.heart_rate_bpm, est.systolic_interval_s, spread, ffs, cfg)
     starts, ends, states, _ = viterbi_cyclic(loglik, ld, ls)
+    # One audible sound per beat at a fast rate reads as S1 + S2 at half the rate.
+    double = 2.0 * est.heart_rate_bpm
+    if (feats is not None and double <= 1.05 * cfg.max_bpm
+            and looks_halved(starts, ends, states, feats, 60.0 * ffs / est.heart_rate_bpm)):
+        from eddyphone.physiology import systolic_interval_s
+
+        est = HeartRateEstimate(double, systolic_interval_s(double)[0], est.confidence)
+        ld, ls = _tables(est.heart_rate_bpm, est.systolic_interval_s, spread, ffs, cfg)
+        starts, ends, states, _ = viterbi_cyclic(loglik, ld, ls)
     # Second pass: durations from the first pass where it disagrees with the
     # assumptions, emissions adapted to this recording; one decoding for both.
     again = _refine(starts, states, est, ffs, cfg)

@@ -1,0 +1,101 @@
+"""Signs that a decoding runs at half the true heart rate.
+
+At 140-200 bpm with one of the two heart sounds too soft to hear, every audible
+sound is the same sound (all S1 or all S2) and they are evenly spaced. A decoder
+can then read two beats as one: "S1" and "S2" are consecutive beats' sounds and
+the rate comes out halved. Three things tell such a decoding apart from a real
+rhythm at that rate, each a property of the cardiac cycle, not of a device:
+
+- half a cycle looks like a whole one: the feature envelopes correlate with
+  themselves at half the decoded period at least as well as at the whole period
+  (in a real cycle S1 + systole differs from S2 + diastole);
+- the sounds labelled S1 and those labelled S2 do not differ in pitch, loudness
+  or length (in a real cycle S2 is higher pitched and shorter than S1, common
+  practice);
+- the S1-to-S2 intervals vary from beat to beat as much as the S2-to-S1 intervals
+  (in a real rhythm the systolic interval barely follows RR changes, which land
+  in diastole: common practice).
+
+Public API
+----------
+looks_halved(starts, ends, states, feats, ffs, period_frames) -> bool
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from eddyphone.rhythm import envelope_autocorrelation
+
+#: Feature columns (of ``emissions.FEATURE_NAMES``) whose self-similarity is compared:
+#: relative homomorphic, low-band and mid-band levels and the pitch tilt.
+_ENVELOPE_COLUMNS = (0, 3, 4, 6)
+#: Sounds counted alike when no measure separates the two labels by this many pooled
+#: standard deviations (a real S1/S2 pair differs by 1.25 or more in 98 % of the
+#: benchmark recordings read at 65-100 bpm; the halved readings found stayed under 0.8).
+ALIKE_SOUNDS_SD = 1.0
+#: S1-to-S2 intervals vary "as much" as S2-to-S1 intervals when their median change
+#: from beat to beat is at least this fraction of the latter's.
+ALIKE_INTERVALS = 0.35
+
+
+def _at(ac: np.ndarray, lag: float) -> float:
+    k = int(np.floor(lag))
+    frac = lag - k
+    return float(ac[k] * (1.0 - frac) + ac[k + 1] * frac)
+
+
+def _half_like_whole(feats: np.ndarray, period_frames: float) -> bool:
+    if len(feats) < 2 * period_frames + 2:
+        return False
+    diffs = []
+    for col in _ENVELOPE_COLUMNS:
+        ac = envelope_autocorrelation(feats[:, col], max_lag=int(period_frames) + 2)
+        diffs.append(_at(ac, period_frames / 2.0) - _at(ac, period_frames))
+    return float(np.mean(diffs)) > 0.0
+
+
+def _sounds_alike(starts: np.ndarray, ends: np.ndarray, states: np.ndarray,
+                  feats: np.ndarray) -> bool:
+    """No measure (pitch tilt, low- and mid-band peak, length) separates S1 from S2."""
+    per_label = []
+    for label in (0, 2):
+        sel = states == label
+        if np.count_nonzero(sel) < 3:
+            return False
+        rows = [(feats[a:b, 6].mean(), feats[a:b, 3].max(), feats[a:b, 4].max(), b - a)
+                for a, b in zip(starts[sel], ends[sel], strict=True)]
+        per_label.append(np.array(rows, dtype=float))
+    first, second = per_label
+    spread = np.sqrt((first.var(axis=0) + second.var(axis=0)) / 2.0) + 1e-9
+    separation = np.abs(first.mean(axis=0) - second.mean(axis=0)) / spread
+    return bool(np.max(separation) < ALIKE_SOUNDS_SD)
+
+
+def _intervals_alike(starts: np.ndarray, states: np.ndarray) -> bool:
+    """S1-to-S2 intervals change from beat to beat as much as S2-to-S1 intervals."""
+    s1, s2 = starts[states == 0], starts[states == 2]
+    if len(s1) < 4 or len(s2) < 4:
+        return False
+    k = np.searchsorted(s2, s1)
+    ok = k < len(s2)
+    first = s2[k[ok]] - s1[ok]
+    j = np.searchsorted(s1, s2)
+    ok = j < len(s1)
+    second = s1[j[ok]] - s2[ok]
+    change_first = float(np.median(np.abs(np.diff(first))))
+    change_second = float(np.median(np.abs(np.diff(second))))
+    return change_first >= ALIKE_INTERVALS * change_second
+
+
+def looks_halved(starts: np.ndarray, ends: np.ndarray, states: np.ndarray,
+                 feats: np.ndarray, period_frames: float) -> bool:
+    """True when a decoding at ``period_frames`` shows all three signs of half the rate.
+
+    ``starts``, ``ends`` and ``states`` are the decoded segments in frames (states
+    0-3: S1, systole, S2, diastole), ``feats`` the frame features they were decoded
+    from.
+    """
+    return (_intervals_alike(starts, states)
+            and _sounds_alike(starts, ends, states, feats)
+            and _half_like_whole(feats, period_frames))
