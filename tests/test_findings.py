@@ -135,6 +135,12 @@ def test_quality_words_follow_the_trade():
                          **common) == ("musical",)
     assert quality_words(pitch="medium", tonality=0.1, roughness=0.4, phase="systolic",
                          **common) == ("harsh",)
+    # common practice: the early diastolic decrescendo of a leaking outflow valve is
+    # "blowing"; the rumble is mid-diastolic or fills diastole
+    assert quality_words(pitch="low", tonality=0.1, roughness=0.1, phase="diastolic",
+                         timing="early", centroid_hz=230.0, **common) == ("blowing",)
+    assert quality_words(pitch="low", tonality=0.1, roughness=0.1, phase="diastolic",
+                         timing="holo", centroid_hz=230.0, **common) == ("rumbling",)
 
 
 def test_shape_words():

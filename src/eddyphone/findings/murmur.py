@@ -206,8 +206,8 @@ def pitch_word(centroid_hz: float, boundaries_hz: tuple[float, float] = PITCH_BO
 
 def quality_words(*, pitch: str, tonality: float, relative_spread: float, roughness: float,
                   tonal_threshold: float, dominant_hz: float = float("inf"),
-                  phase: str = "diastolic", centroid_hz: float = float("inf")
-                  ) -> tuple[str, ...]:
+                  phase: str = "diastolic", centroid_hz: float = float("inf"),
+                  timing: str | None = None) -> tuple[str, ...]:
     """Descriptive words from spectral and envelope measures.
 
     ``musical`` when most excess energy sits in one narrow peak (tonality at or above
@@ -215,8 +215,11 @@ def quality_words(*, pitch: str, tonality: float, relative_spread: float, roughn
     cannot tell a tone from a narrow noise band); otherwise ``rumbling`` when
     diastolic and low (the trade keeps the word for diastolic murmurs): low-pitched,
     or not high-pitched with its heard spectrum (``centroid_hz``, as recorded) below
-    the low-pitch edge of :data:`~eddyphone.findings.config.PITCH_BOUNDARIES_HZ`;
-    ``harsh`` when the envelope is rough (fast fluctuation at least
+    the low-pitch edge of :data:`~eddyphone.findings.config.PITCH_BOUNDARIES_HZ`,
+    except an ``early`` diastolic murmur (over by two thirds of diastole, the pattern
+    of a leaking outflow valve, whose murmur the trade calls blowing; the rumble is
+    mid-diastolic or fills diastole, common practice) unless its heard spectrum lies
+    below that edge; ``harsh`` when the envelope is rough (fast fluctuation at least
     :data:`HARSH_ROUGHNESS` of its mean), ``blowing`` when smoother. Our own rules on the
     usual meanings: musical = tonal, rumbling = low and noisy, harsh = rough,
     blowing = smooth. ``relative_spread`` (spectral spread over centroid) is accepted
@@ -224,8 +227,10 @@ def quality_words(*, pitch: str, tonality: float, relative_spread: float, roughn
     """
     if tonality >= tonal_threshold and dominant_hz >= MIN_TONAL_HZ:
         return ("musical",)
-    heard_low = pitch == "medium" and centroid_hz < PITCH_BOUNDARIES_HZ[0]
-    if (pitch == "low" or heard_low) and phase == "diastolic":
+    heard_below = centroid_hz < PITCH_BOUNDARIES_HZ[0]
+    heard_low = pitch == "medium" and heard_below
+    regurgitant = timing == "early" and not heard_below
+    if (pitch == "low" or heard_low) and phase == "diastolic" and not regurgitant:
         return ("rumbling",)
     if pitch == "low":
         return ("blowing",)
@@ -739,7 +744,7 @@ def find_murmurs(spec: Spectrogram, prof: Profiles, config: FindingsConfig) -> M
         words = quality_words(pitch=pitch, tonality=sp["tonality"], relative_spread=rel_spread,
                               roughness=rough, tonal_threshold=cfg.tonal_threshold,
                               dominant_hz=sp["dominant_hz"], phase=name,
-                              centroid_hz=centroid)
+                              centroid_hz=centroid, timing=timing)
         band_e = {}
         tot = float(sp["excess"].sum())
         for lo, hi in spec.bands_hz:
