@@ -175,7 +175,7 @@ def shape_word(profile_db: np.ndarray, positions: np.ndarray | None = None
     if len(mid) == 0:
         mid = p
     k = int(np.argmax(p))
-    pos = float(x[k])
+    pos = _peak_position(p, x, k)
     if mid.min() >= -4.0:
         return "plateau", float(np.clip((mid.min() + 6.0) / 6.0, 0.3, 1.0))
     drop = float(-mid.min())
@@ -186,6 +186,19 @@ def shape_word(profile_db: np.ndarray, positions: np.ndarray | None = None
         return "crescendo", conf
     edge = min(pos - 0.2, 0.8 - pos) / 0.3
     return "crescendo-decrescendo", float(np.clip(conf * (0.5 + edge), 0.3, 1.0))
+
+
+def _peak_position(p_db: np.ndarray, x: np.ndarray, k: int) -> float:
+    """Where the profile peaks, between bin centres: a parabola through the peak bin
+    and its neighbours (in dB), moved at most half a bin (common practice for
+    locating a sampled peak)."""
+    if 0 < k < len(p_db) - 1:
+        a, b, c = p_db[k - 1], p_db[k], p_db[k + 1]
+        den = a - 2.0 * b + c
+        d = float(np.clip(0.5 * (a - c) / den, -0.5, 0.5)) if den < 0 else 0.0
+        step = x[k + 1] - x[k] if d > 0 else x[k] - x[k - 1]
+        return float(x[k] + d * step)
+    return float(x[k])
 
 
 def pitch_word(centroid_hz: float, boundaries_hz: tuple[float, float] = PITCH_BOUNDARIES_HZ
