@@ -157,6 +157,16 @@ def test_shape_words():
     assert shape_word(prof)[0] == "decrescendo"
     centres = 0.15 + 0.7 * (np.arange(n) + 0.5) / n
     assert shape_word(prof, centres)[0] == "crescendo-decrescendo"
+    # the peak is placed between bin centres: a loudness course that is a parabola in
+    # dB peaking at 0.18 or at 0.22 of the window (its vertex, as numpy.polyfit finds
+    # it) sits either side of the one-fifth edge although both peak in the same bin
+    x = (np.arange(n) + 0.5) / n
+    for top, word in ((0.18, "decrescendo"), (0.22, "crescendo-decrescendo")):
+        p = -300.0 * (x - top) ** 2
+        a2, a1, _ = np.polyfit(x, p, 2)
+        assert -a1 / (2 * a2) == pytest.approx(top)
+        assert int(np.argmax(p)) == 2
+        assert shape_word(p)[0] == word
 
 
 # --- spectral measures against reference libraries -------------------------------------
