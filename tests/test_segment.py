@@ -377,3 +377,32 @@ def test_fast_rhythm_with_a_soft_second_sound_is_not_read_at_half_rate():
     assert truth > 150
     assert abs(seg.rhythm.heart_rate_bpm - truth) < 0.05 * truth
     assert _sound_f1(sim, seg) >= 0.9
+
+
+def test_sound_separation_tells_s1_s2_pairs_from_alike_sounds():
+    from eddyphone.segment.halving import EVEN_SOUNDS_SD, sound_separation
+
+    rng = np.random.default_rng(5)
+    onsets = list(range(5, 5 + 18 * 40, 18))
+    n = onsets[-1] + 20
+    starts, ends, states = _labelled(onsets, n)
+    # S2 higher pitched than S1 (common practice), with beat-to-beat scatter.
+    tilts = [(-1.0 if i % 2 == 0 else 1.0) + 0.3 * rng.standard_normal() for i in range(40)]
+    paired = _pulse_features(n, onsets, tilts)
+    assert sound_separation(starts, ends, states, paired) > EVEN_SOUNDS_SD
+    alike = _pulse_features(n, onsets, list(0.3 * rng.standard_normal(40)))
+    assert sound_separation(starts, ends, states, alike) < 1.0
+    # Too few sounds of one label: no verdict either way.
+    assert sound_separation(starts[:4], ends[:4], states[:4], alike) == float("inf")
+
+
+def test_evenly_spaced_but_distinct_s1_and_s2_are_not_read_at_double_rate():
+    # A benchmark case (draw 6, case 71: sinus at 84 bpm, 17 dB, systole and diastole
+    # within 20 ms of each other) that read 167 bpm before S1 and S2 were compared.
+    from eddyphone.simulate import benchmark_specs
+
+    spec = benchmark_specs(120, seed=6)[71]
+    sim, seg = _run(spec)
+    truth = sim.truth["rhythm"]["heart_rate_bpm"]
+    assert abs(seg.rhythm.heart_rate_bpm - truth) < 0.05 * truth
+    assert _f1(sim, seg) >= 0.9

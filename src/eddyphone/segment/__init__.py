@@ -31,7 +31,7 @@ from eddyphone.rhythm import (
 from eddyphone.segment.beats import Beat, Segment, beats_from_segments
 from eddyphone.segment.durations import STATES, duration_tables, state_durations
 from eddyphone.segment.emissions import FEATURE_NAMES, EmissionModel, frame_features
-from eddyphone.segment.halving import looks_halved
+from eddyphone.segment.halving import EVEN_SOUNDS_SD, looks_halved, sound_separation
 from eddyphone.segment.hsmm import viterbi_cyclic
 from eddyphone.segment.support import fold_doubtful_beats, segment_support
 
@@ -406,10 +406,12 @@ def _decode_chunk(loglik: np.ndarray, homo: np.ndarray, tilt: np.ndarray, sound:
         st, en, k, score = viterbi_cyclic(loglik[:n_probe], ld, ls)
         key = (-round(_missed_fraction(st, en, k, sound[:n_probe]) / 0.2), score)
         if best_key is None or key > best_key:
-            best_key, est, spread, best_path = key, c, sp, (st, k)
+            best_key, est, spread, best_path = key, c, sp, (st, en, k)
     double = 2.0 * est.heart_rate_bpm
     if (best_path is not None and double <= 1.05 * cfg.max_bpm
-            and _too_even(best_path[0], best_path[1], ffs)):
+            and _too_even(best_path[0], best_path[2], ffs)
+            and (feats is None
+                 or sound_separation(*best_path, feats[:n_probe]) < EVEN_SOUNDS_SD)):
         from eddyphone.physiology import systolic_interval_s
 
         est = HeartRateEstimate(double, systolic_interval_s(double)[0], est.confidence)
