@@ -5,7 +5,7 @@ Generates ``--n`` cases with :func:`eddyphone.simulate.benchmark_specs` (seed
 patterns, not fitted to these cases) and prints, measured in this run:
 
 * *described* level: the murmur exactly as the simulator's truth describes it (phase,
-  timing, shape, measured peak position, source pitch, grade), explained with three
+  timing, shape, measured peak position, pitch at the chest surface, grade), explained with three
   kinds of context: none; hematocrit and site (a blood count); and the scenario's
   facts (hematocrit and site for all, exercise for the high-flow cases, age 76 for the
   wall-irregularity cases);
