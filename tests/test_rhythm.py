@@ -120,3 +120,28 @@ def test_regression_band_used_is_weissler():
 def test_bad_range():
     with pytest.raises(ParameterError, match="min_bpm"):
         heart_rate_autocorrelation(np.ones(100), 50.0, min_bpm=200, max_bpm=40)
+
+
+def test_jitter_of_s1_onsets_alone_does_not_make_a_rhythm_irregular():
+    # Regular 160 bpm whose S1 onsets jump up to four 20-ms frames early (an S4 merging
+    # into S1 now and then) while the S2 onsets stay steady, with one beat missed by
+    # the detector; and a truly irregular rhythm (independent RR) that moves both
+    # sounds. Common practice: atrial fibrillation is "irregularly irregular", every
+    # interval of the beat changes.
+    rng = np.random.default_rng(13)
+    est = HeartRateEstimate(160.0, 0.25, 0.8)
+    s2 = 0.25 + 0.375 * np.arange(40)
+    s1 = s2 - 0.25 - 0.02 * rng.integers(0, 5, 40)
+    s1, s2 = np.delete(s1, 5), np.delete(s2, 5)
+    rr = np.diff(s1)
+    assert rr_statistics(rr)[2]  # the S1 series alone looks irregular
+    r = rhythm_from_beats(s1, rr, np.full(39, 0.25), est, s2_intervals_s=np.diff(s2))
+    assert not r.irregular
+    # Hand count: 39 intervals (the missed beat's counts twice) over the S1 span.
+    assert r.heart_rate_bpm == pytest.approx(60.0 * 39 / rr.sum())
+    assert r.heart_rate_bpm == pytest.approx(160.0, abs=2.0)
+    af = np.cumsum(rng.uniform(0.25, 0.55, 40))
+    rr_af = np.diff(af)
+    r_af = rhythm_from_beats(af, rr_af, np.full(40, 0.25), est,
+                             s2_intervals_s=np.diff(af + 0.25 + 0.01 * rng.standard_normal(40)))
+    assert r_af.irregular

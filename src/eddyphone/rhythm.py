@@ -323,7 +323,8 @@ def rr_statistics(rr_s: np.ndarray, *, irregular_cv: float = IRREGULAR_RR_CV,
 
 def rhythm_from_beats(s1_onsets_s: np.ndarray, rr_s: np.ndarray, systoles_s: np.ndarray,
                       estimate: HeartRateEstimate, *, irregular_cv: float = IRREGULAR_RR_CV,
-                      beat_confidence: float = 1.0) -> Rhythm:
+                      beat_confidence: float = 1.0,
+                      s2_intervals_s: np.ndarray | None = None) -> Rhythm:
     """Combine the beats of a segmentation with the autocorrelation estimate.
 
     Parameters
@@ -340,6 +341,12 @@ def rhythm_from_beats(s1_onsets_s: np.ndarray, rr_s: np.ndarray, systoles_s: np.
         Threshold of the irregular flag.
     beat_confidence : float
         Mean confidence of the beats, 0-1.
+    s2_intervals_s : ndarray, optional
+        S2-onset to next S2-onset intervals of consecutive beats. Given two or more,
+        the rhythm is irregular only when they are irregular too: a sound merging
+        into S1 now and then (an S4, a late murmur) jitters S1 onsets by a frame or
+        three, which at fast rates passes for beat-to-beat irregularity, while a truly
+        irregular rhythm moves both sounds.
 
     Returns
     -------
@@ -347,6 +354,9 @@ def rhythm_from_beats(s1_onsets_s: np.ndarray, rr_s: np.ndarray, systoles_s: np.
     """
     rr = np.asarray(rr_s, dtype=float)
     mean, cv, irregular = rr_statistics(rr, irregular_cv=irregular_cv)
+    if irregular and s2_intervals_s is not None and len(s2_intervals_s) >= 2:
+        irregular = rr_statistics(np.asarray(s2_intervals_s, dtype=float),
+                                  irregular_cv=irregular_cv)[2]
     sys_s = float(np.median(systoles_s)) if len(systoles_s) else estimate.systolic_interval_s
     if len(rr) >= 2 and mean:
         hr = 60.0 / mean

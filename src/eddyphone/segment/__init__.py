@@ -613,8 +613,12 @@ def segment(x: np.ndarray, fs: float, *, quality=None,
     rr = np.array([bt.rr_s for bt in beats if bt.rr_s is not None])
     systoles = np.array([bt.systole_ms / 1000.0 for bt in beats])
     mean_conf = float(np.mean([bt.confidence for bt in beats])) if beats else 0.0
+    s2_intervals = np.array([b.s2_onset_s - a.s2_onset_s for a, b in zip(beats, beats[1:])
+                             if a.next_s1_onset_s is not None
+                             and abs(a.next_s1_onset_s - b.s1_onset_s) < 1e-9])
     rhythm = rhythm_from_beats(np.array([bt.s1_onset_s for bt in beats]), rr, systoles, est,
-                               irregular_cv=cfg.irregular_rr_cv, beat_confidence=mean_conf)
+                               irregular_cv=cfg.irregular_rr_cv, beat_confidence=mean_conf,
+                               s2_intervals_s=s2_intervals)
     return Segmentation(tuple(segments), beats, rhythm, tuple(skipped), float(ffs), METHOD)
 
 
