@@ -145,3 +145,19 @@ def test_jitter_of_s1_onsets_alone_does_not_make_a_rhythm_irregular():
     r_af = rhythm_from_beats(af, rr_af, np.full(40, 0.25), est,
                              s2_intervals_s=np.diff(af + 0.25 + 0.01 * rng.standard_normal(40)))
     assert r_af.irregular
+
+
+def test_invented_beat_in_a_regular_rhythm_counts_once():
+    # Hand count: 20 intervals of 1.25 s (48 bpm) with one split 0.45 + 0.80 by a sound
+    # read as an extra beat (an S3 or a rub), and a premature beat (0.7 s) with its
+    # compensatory pause (1.8 s): 21 true intervals in 26.25 s, 48 bpm. Taken at face
+    # value the 22 found intervals give 50.3 bpm.
+    rr = np.full(21, 1.25)
+    rr[7], rr[15] = 0.7, 1.8
+    rr = np.insert(np.delete(rr, 3), 3, [0.45, 0.80])
+    est = HeartRateEstimate(48.0, 0.37, 0.8)
+    r = rhythm_from_beats(np.zeros(23), rr, np.full(23, 0.37), est)
+    assert not r.irregular
+    assert len(r.rr_s) == 22  # the series is kept as found
+    assert r.heart_rate_bpm == pytest.approx(60.0 * 21 / rr.sum())
+    assert r.heart_rate_bpm == pytest.approx(48.0)

@@ -65,8 +65,8 @@ class Rhythm:
     ----------
     heart_rate_bpm : float
         ``60 / rr_mean_s`` when beats were found (unless the rhythm is irregular, an interval near
-        a multiple of the median counts as that many beats), else the
-        autocorrelation estimate.
+        a multiple of the median counts as that many beats and two short ones adding
+        up to about the median count as one), else the autocorrelation estimate.
     systolic_interval_s : float
         Median S1-onset to S2-onset interval.
     rr_s : tuple of float
@@ -321,6 +321,24 @@ def rr_statistics(rr_s: np.ndarray, *, irregular_cv: float = IRREGULAR_RR_CV,
     return mean, cv, bool(cv is not None and cv > irregular_cv and step > irregular_step)
 
 
+def _merge_inserted(rr: np.ndarray, median_s: float) -> np.ndarray:
+    """``rr`` with every two successive short intervals that add up to about one
+    median interval (within 15 %, each under 0.8 of it) made one: a sound taken for
+    an extra beat splits one interval so. A premature beat differs: its short
+    interval is followed by a compensatory pause, the two adding up to about two."""
+    out = []
+    i = 0
+    while i < len(rr):
+        if (i + 1 < len(rr) and max(rr[i], rr[i + 1]) < 0.8 * median_s
+                and abs(rr[i] + rr[i + 1] - median_s) <= 0.15 * median_s):
+            out.append(rr[i] + rr[i + 1])
+            i += 2
+        else:
+            out.append(rr[i])
+            i += 1
+    return np.array(out)
+
+
 def rhythm_from_beats(s1_onsets_s: np.ndarray, rr_s: np.ndarray, systoles_s: np.ndarray,
                       estimate: HeartRateEstimate, *, irregular_cv: float = IRREGULAR_RR_CV,
                       beat_confidence: float = 1.0,
@@ -362,10 +380,12 @@ def rhythm_from_beats(s1_onsets_s: np.ndarray, rr_s: np.ndarray, systoles_s: np.
         hr = 60.0 / mean
         # In a rhythm that is not irregular (premature beats allowed) an interval near
         # twice the median hides a missed beat: count it as that many beats for the
-        # rate (the RR series is kept as found).
+        # rate; two short intervals making one hide an invented beat: count them as
+        # one (the RR series is kept as found).
         med = float(np.median(rr))
         if len(rr) >= 3 and not irregular:
-            n_beats = np.where(rr > 1.7 * med, np.round(rr / med), 1.0)
+            whole = _merge_inserted(rr, med)
+            n_beats = np.where(whole > 1.7 * med, np.round(whole / med), 1.0)
             hr = 60.0 * float(np.sum(n_beats)) / float(np.sum(rr))
         agree = float(np.exp(-abs(hr - estimate.heart_rate_bpm) / 10.0))
         conf = float(np.clip(beat_confidence * (0.5 + 0.5 * max(agree, estimate.confidence)),
