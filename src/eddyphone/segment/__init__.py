@@ -398,7 +398,7 @@ def _decode_chunk(loglik: np.ndarray, homo: np.ndarray, tilt: np.ndarray, sound:
     cands = period_candidates(homo, ffs, min_bpm=cfg.min_bpm, max_bpm=cfg.max_bpm)
     hyps = _hypotheses(cands, sound, ffs, cfg)
     n_probe = min(len(loglik), int(_PROBE_S * ffs))
-    best_key, est, spread, best_path = None, cands[0], 0.0, None
+    best_key, est, spread, best_path, tables = None, cands[0], 0.0, None, None
     for c, sp in hyps:
         # The model's own score decides, except that a rate leaving loud sounds
         # inside its silences (half the true rate) loses to one that does not.
@@ -406,7 +406,7 @@ def _decode_chunk(loglik: np.ndarray, homo: np.ndarray, tilt: np.ndarray, sound:
         st, en, k, score = viterbi_cyclic(loglik[:n_probe], ld, ls)
         key = (-round(_missed_fraction(st, en, k, sound[:n_probe]) / 0.2), score)
         if best_key is None or key > best_key:
-            best_key, est, spread, best_path = key, c, sp, (st, en, k)
+            best_key, est, spread, best_path, tables = key, c, sp, (st, en, k), (ld, ls)
     double = 2.0 * est.heart_rate_bpm
     if (best_path is not None and double <= 1.05 * cfg.max_bpm
             and _too_even(best_path[0], best_path[2], ffs)
@@ -415,7 +415,8 @@ def _decode_chunk(loglik: np.ndarray, homo: np.ndarray, tilt: np.ndarray, sound:
         from eddyphone.physiology import systolic_interval_s
 
         est = HeartRateEstimate(double, systolic_interval_s(double)[0], est.confidence)
-    ld, ls = _tables(est.heart_rate_bpm, est.systolic_interval_s, spread, ffs, cfg)
+        tables = None
+    ld, ls = tables or _tables(est.heart_rate_bpm, est.systolic_interval_s, spread, ffs, cfg)
     starts, ends, states, _ = viterbi_cyclic(loglik, ld, ls)
     # One audible sound per beat at a fast rate reads as S1 + S2 at half the rate.
     double = 2.0 * est.heart_rate_bpm
