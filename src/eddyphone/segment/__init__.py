@@ -21,6 +21,7 @@ import numpy as np
 
 from eddyphone.envelope import Envelopes, envelopes
 from eddyphone.errors import InputError, ParameterError
+from eddyphone.physiology import systolic_interval_s
 from eddyphone.rhythm import (
     IRREGULAR_RR_CV,
     HeartRateEstimate,
@@ -31,7 +32,12 @@ from eddyphone.rhythm import (
 from eddyphone.segment.beats import Beat, Segment, beats_from_segments
 from eddyphone.segment.durations import STATES, duration_tables, state_durations
 from eddyphone.segment.emissions import FEATURE_NAMES, EmissionModel, frame_features
-from eddyphone.segment.halving import EVEN_SOUNDS_SD, looks_halved, sound_separation
+from eddyphone.segment.halving import (
+    EVEN_SOUNDS_SD,
+    looks_halved,
+    sound_separation,
+)
+from eddyphone.segment.halving import sound_intervals as _intervals
 from eddyphone.segment.hsmm import viterbi_cyclic
 from eddyphone.segment.support import fold_doubtful_beats, segment_support
 
@@ -210,22 +216,6 @@ def _tables(hr: float, sys_s: float, rr_spread_s: float, ffs: float, cfg: Segmen
     return duration_tables(laws, ffs, floor_weight=cfg.duration_floor_weight)
 
 
-def _intervals(starts: np.ndarray, states: np.ndarray, ffs: float
-               ) -> tuple[np.ndarray, np.ndarray]:
-    """S1-onset to S2-onset and S2-onset to next S1-onset intervals, in s."""
-    s1 = starts[(states == 0) & (starts > 0)]
-    s2 = starts[(states == 2) & (starts > 0)]
-    if len(s1) < 2 or len(s2) < 2:
-        return np.array([]), np.array([])
-    k = np.searchsorted(s2, s1)
-    ok = k < len(s2)
-    sys = (s2[k[ok]] - s1[ok]) / ffs
-    j = np.searchsorted(s1, s2)
-    ok2 = j < len(s1)
-    dia = (s1[j[ok2]] - s2[ok2]) / ffs
-    return sys, dia
-
-
 def _swap_evidence(starts: np.ndarray, ends: np.ndarray, states: np.ndarray,
                    tilt: np.ndarray, ffs: float, loglik: np.ndarray | None = None) -> float:
     """Evidence (> 0) that the decoded S1/S2 labels are the right way round."""
@@ -257,8 +247,6 @@ def _swap_cues(starts: np.ndarray, ends: np.ndarray, states: np.ndarray,
         emission = float(np.clip(diff / max(len(sys), 1), -3, 3))
     sys_m, dia_m = float(np.median(sys)), float(np.median(dia))
     hr = 60.0 / (sys_m + dia_m)
-    from eddyphone.physiology import systolic_interval_s
-
     sys_reg = systolic_interval_s(float(np.clip(hr, 20.0, 250.0)))[0]
     expected = (60.0 / hr - sys_reg) - sys_reg
     timing = 0.0
@@ -328,8 +316,6 @@ def _too_even(starts: np.ndarray, states: np.ndarray, ffs: float) -> bool:
     regression expects a clear difference are more likely one sound per beat at
     twice the rate (a soft S2 at a fast rate) than S1 and S2 at this rate.
     """
-    from eddyphone.physiology import systolic_interval_s
-
     sys, dia = _intervals(starts, states, ffs)
     if len(sys) < 3 or len(dia) < 3:
         return False
@@ -356,8 +342,6 @@ def _hypotheses(cands: list[HeartRateEstimate], sound: np.ndarray, ffs: float,
     dur = len(sound) / ffs
     if onsets >= 4 and dur > 0:
         hr_count = float(np.clip(30.0 * onsets / dur, cfg.min_bpm, cfg.max_bpm))
-        from eddyphone.physiology import systolic_interval_s
-
         out.append((HeartRateEstimate(hr_count, systolic_interval_s(hr_count)[0], 0.0),
                     0.2 * 60.0 / hr_count))
     out.append((first, 0.2 * 60.0 / first.heart_rate_bpm))
@@ -392,6 +376,12 @@ def _adapted(loglik: np.ndarray, feats: np.ndarray, starts: np.ndarray, ends: np
     return (1.0 - weight) * loglik + weight * (post - prior)
 
 
+def _doubled(est: HeartRateEstimate) -> HeartRateEstimate:
+    """Twice the rate, with the regression's systolic interval at that rate."""
+    double = 2.0 * est.heart_rate_bpm
+    return HeartRateEstimate(double, systolic_interval_s(double)[0], est.confidence)
+
+
 def _decode_chunk(loglik: np.ndarray, homo: np.ndarray, tilt: np.ndarray, sound: np.ndarray,
                   homo_rel: np.ndarray, ffs: float, cfg: SegmentConfig,
                   feats: np.ndarray | None = None) -> _Decoded:
@@ -412,19 +402,14 @@ def _decode_chunk(loglik: np.ndarray, homo: np.ndarray, tilt: np.ndarray, sound:
             and _too_even(best_path[0], best_path[2], ffs)
             and (feats is None
                  or sound_separation(*best_path, feats[:n_probe]) < EVEN_SOUNDS_SD)):
-        from eddyphone.physiology import systolic_interval_s
-
-        est = HeartRateEstimate(double, systolic_interval_s(double)[0], est.confidence)
+        est = _doubled(est)
         tables = None
     ld, ls = tables or _tables(est.heart_rate_bpm, est.systolic_interval_s, spread, ffs, cfg)
     starts, ends, states, _ = viterbi_cyclic(loglik, ld, ls)
     # One audible sound per beat at a fast rate reads as S1 + S2 at half the rate.
-    double = 2.0 * est.heart_rate_bpm
-    if (feats is not None and double <= 1.05 * cfg.max_bpm
+    if (feats is not None and 2.0 * est.heart_rate_bpm <= 1.05 * cfg.max_bpm
             and looks_halved(starts, ends, states, feats, 60.0 * ffs / est.heart_rate_bpm)):
-        from eddyphone.physiology import systolic_interval_s
-
-        est = HeartRateEstimate(double, systolic_interval_s(double)[0], est.confidence)
+        est = _doubled(est)
         ld, ls = _tables(est.heart_rate_bpm, est.systolic_interval_s, spread, ffs, cfg)
         starts, ends, states, _ = viterbi_cyclic(loglik, ld, ls)
     # Second pass: durations from the first pass where it disagrees with the

@@ -20,6 +20,7 @@ Public API
 ----------
 looks_halved(starts, ends, states, feats, period_frames) -> bool
 sound_separation(starts, ends, states, feats) -> float
+sound_intervals(starts, states, ffs) -> (systolic, diastolic intervals)
 """
 
 from __future__ import annotations
@@ -78,17 +79,28 @@ def sound_separation(starts: np.ndarray, ends: np.ndarray, states: np.ndarray,
     return float(np.max(np.abs(first.mean(axis=0) - second.mean(axis=0)) / spread))
 
 
-def _intervals_alike(starts: np.ndarray, states: np.ndarray) -> bool:
-    """S1-to-S2 intervals change from beat to beat as much as S2-to-S1 intervals."""
-    s1, s2 = starts[states == 0], starts[states == 2]
-    if len(s1) < 4 or len(s2) < 4:
-        return False
+def sound_intervals(starts: np.ndarray, states: np.ndarray, ffs: float
+                    ) -> tuple[np.ndarray, np.ndarray]:
+    """S1-onset to S2-onset and S2-onset to next S1-onset intervals, in s (segments
+    starting at frame 0, cut by the start, left out)."""
+    s1 = starts[(states == 0) & (starts > 0)]
+    s2 = starts[(states == 2) & (starts > 0)]
+    if len(s1) < 2 or len(s2) < 2:
+        return np.array([]), np.array([])
     k = np.searchsorted(s2, s1)
     ok = k < len(s2)
-    first = s2[k[ok]] - s1[ok]
+    first = (s2[k[ok]] - s1[ok]) / ffs
     j = np.searchsorted(s1, s2)
     ok = j < len(s1)
-    second = s1[j[ok]] - s2[ok]
+    second = (s1[j[ok]] - s2[ok]) / ffs
+    return first, second
+
+
+def _intervals_alike(starts: np.ndarray, states: np.ndarray) -> bool:
+    """S1-to-S2 intervals change from beat to beat as much as S2-to-S1 intervals."""
+    first, second = sound_intervals(starts, states, 1.0)
+    if len(first) < 4 or len(second) < 4:
+        return False
     change_first = float(np.median(np.abs(np.diff(first))))
     change_second = float(np.median(np.abs(np.diff(second))))
     return change_first >= ALIKE_INTERVALS * change_second
