@@ -239,18 +239,29 @@ def speed() -> None:
 
 
 _MEMORY_CHILD = """
-import resource, sys, time
+import sys, time
 import numpy as np
 from eddyphone.segment import segment
+
+
+def status_mib(key):
+    with open('/proc/self/status') as fh:
+        return next(int(line.split()[1]) for line in fh if line.startswith(key)) / 1024
+
+
 x = np.tile(np.load(sys.argv[1]), 60)  # one hour at 4 kHz
 x *= 1.0 / np.sqrt(np.dot(x, x) / len(x))
-base = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss
+# The peak (VmHWM) starts from the resident size now: a forked child's peak would
+# otherwise include the parent's resident memory at the fork (Linux: proc(5) clear_refs).
+with open('/proc/self/clear_refs', 'w') as fh:
+    fh.write('5')
+base = status_mib('VmRSS')
 t0 = time.perf_counter()
 seg = segment(x, 4000.0)
 dt = time.perf_counter() - t0
-peak = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss
+peak = status_mib('VmHWM')
 hr = seg.rhythm.heart_rate_bpm
-print(f"{peak / 1024:.0f} {base / 1024:.0f} {dt:.2f} {len(seg.beats)} {hr:.1f}")
+print(f"{peak:.0f} {base:.0f} {dt:.2f} {len(seg.beats)} {hr:.1f}")
 """
 
 
