@@ -222,6 +222,14 @@ def _swap_evidence(starts: np.ndarray, ends: np.ndarray, states: np.ndarray,
     return sum(_swap_cues(starts, ends, states, tilt, ffs, loglik).values())
 
 
+def _winsorised_sd(v: np.ndarray) -> float:
+    """Standard deviation with values beyond the 10th and 90th percentiles pulled in to
+    them: a premature beat or two does not decide it, and unlike a median it does not
+    fall to zero on 20-ms frames."""
+    lo, hi = np.percentile(v, [10.0, 90.0])
+    return float(np.std(np.clip(v, lo, hi)))
+
+
 def _swap_cues(starts: np.ndarray, ends: np.ndarray, states: np.ndarray,
                tilt: np.ndarray, ffs: float, loglik: np.ndarray | None = None
                ) -> dict[str, float]:
@@ -229,7 +237,8 @@ def _swap_cues(starts: np.ndarray, ends: np.ndarray, states: np.ndarray,
 
     Four cues, each clipped to +/-3: timing (systole shorter than diastole by the
     margin the Weissler regression expects at this rate), stability (the systolic
-    interval varies less than the diastolic one when the rhythm varies), pitch (S2
+    interval varies less than the diastolic one when the rhythm varies; spreads
+    winsorised at 10/90 %, so a few premature beats cannot turn it), pitch (S2
     is higher-pitched than S1, common practice) and the emission model (log
     likelihood of the labels against the mirrored labels, per beat). The decoded
     sound durations are no cue: the duration laws give S1 the longer mean, so
@@ -253,7 +262,7 @@ def _swap_cues(starts: np.ndarray, ends: np.ndarray, states: np.ndarray,
     if abs(expected) >= 0.05:
         timing = float(np.clip((dia_m - sys_m) / 0.08, -3, 3)) * np.sign(expected)
     stability = 0.0
-    sd_s, sd_d = float(np.std(sys)), float(np.std(dia))
+    sd_s, sd_d = _winsorised_sd(sys), _winsorised_sd(dia)
     if len(sys) >= 4 and max(sd_s, sd_d) > 0.015:
         stability = float(np.clip(np.log((sd_d + 0.005) / (sd_s + 0.005)) / 0.5, -3, 3))
     m1, m2 = tilt[frame_state == 0], tilt[frame_state == 2]
