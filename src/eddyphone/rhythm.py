@@ -136,7 +136,8 @@ def envelope_autocorrelation(env: np.ndarray, max_lag: int | None = None) -> np.
     return ac if max_lag is None else ac[: max_lag + 1]
 
 
-def _interp(ac: np.ndarray, lag: float) -> float:
+def autocorrelation_at(ac: np.ndarray, lag: float) -> float:
+    """``ac`` linearly interpolated at a fractional ``lag`` (0 outside it)."""
     lo = int(np.floor(lag))
     if lo < 0 or lo + 1 >= len(ac):
         return 0.0
@@ -213,19 +214,19 @@ def _rate_from_autocorrelation(ac: np.ndarray, feature_fs: float, min_bpm: float
     k = int(peaks[np.argmax(ac[peaks])])
     best_lag = _peak_lag(ac, k)
     half = best_lag / 2.0
-    if half >= lo and _interp(ac, half) >= 0.7 * ac[k]:
+    if half >= lo and autocorrelation_at(ac, half) >= 0.7 * ac[k]:
         near = peaks[np.abs(peaks - half) <= max(1.5, 0.08 * half)]
         if len(near):
             h_lag = _peak_lag(ac, int(near[np.argmax(ac[near])]))
             h_hr = 60.0 * feature_fs / h_lag
             sys_h = systolic_interval_s(float(np.clip(h_hr, 20.0, 250.0)))[0] * feature_fs
-            cross = max(_interp(ac, sys_h), _interp(ac, h_lag - sys_h))
+            cross = max(autocorrelation_at(ac, sys_h), autocorrelation_at(ac, h_lag - sys_h))
             if cross >= 0.3:
                 best_lag = h_lag
     hr = 60.0 * feature_fs / best_lag
     sys_reg_s = systolic_interval_s(float(np.clip(hr, 20.0, 250.0)))[0]
     sys_s = _systole_from_ac(ac, feature_fs, best_lag, sys_reg_s)
-    conf = float(np.clip(_interp(ac, best_lag), 0.0, 1.0))
+    conf = float(np.clip(autocorrelation_at(ac, best_lag), 0.0, 1.0))
     return HeartRateEstimate(float(hr), sys_s, conf)
 
 
@@ -268,7 +269,7 @@ def period_candidates(env: np.ndarray, feature_fs: float, *, min_bpm: float = 40
             continue
         sys_reg = systolic_interval_s(float(np.clip(hr, 20.0, 250.0)))[0]
         out.append(HeartRateEstimate(float(hr), _systole_from_ac(ac, feature_fs, lag, sys_reg),
-                                     float(np.clip(_interp(ac, lag), 0.0, 1.0))))
+                                     float(np.clip(autocorrelation_at(ac, lag), 0.0, 1.0))))
         if len(out) >= max_candidates:
             break
     return out

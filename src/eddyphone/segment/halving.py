@@ -27,7 +27,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from eddyphone.rhythm import envelope_autocorrelation
+from eddyphone.rhythm import autocorrelation_at, envelope_autocorrelation
 
 #: Feature columns (of ``emissions.FEATURE_NAMES``) whose self-similarity is compared:
 #: relative homomorphic, low-band and mid-band levels and the pitch tilt.
@@ -46,19 +46,14 @@ EVEN_SOUNDS_SD = 2.5
 ALIKE_INTERVALS = 0.35
 
 
-def _at(ac: np.ndarray, lag: float) -> float:
-    k = int(np.floor(lag))
-    frac = lag - k
-    return float(ac[k] * (1.0 - frac) + ac[k + 1] * frac)
-
-
 def _half_like_whole(feats: np.ndarray, period_frames: float) -> bool:
     if len(feats) < 2 * period_frames + 2:
         return False
     diffs = []
     for col in _ENVELOPE_COLUMNS:
         ac = envelope_autocorrelation(feats[:, col], max_lag=int(period_frames) + 2)
-        diffs.append(_at(ac, period_frames / 2.0) - _at(ac, period_frames))
+        diffs.append(autocorrelation_at(ac, period_frames / 2.0)
+                     - autocorrelation_at(ac, period_frames))
     return float(np.mean(diffs)) > 0.0
 
 

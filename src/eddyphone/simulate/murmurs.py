@@ -205,13 +205,12 @@ def spectrum_summary(break_hz: float, fs: float, *, chest_wall_cutoff_hz: float 
             if k * tone_hz < fs / 2:
                 tone[int(np.argmin(np.abs(f - k * tone_hz)))] += a / amps.sum()
         p = (1.0 - TONE_FRACTION) * p + TONE_FRACTION * tone
-    if chest_wall_cutoff_hz is not None:
-        p = p * chest_wall_gain(f, chest_wall_cutoff_hz, fs)
+    wall = 1.0 if chest_wall_cutoff_hz is None else chest_wall_gain(f, chest_wall_cutoff_hz, fs)
+    p = p * wall
     centre = float(np.sum(f * p) / np.sum(p))
     if tone_hz:
         # half-power band of the noise part (a line has no band)
-        p = source_spectrum(f, break_hz) * (chest_wall_gain(f, chest_wall_cutoff_hz, fs)
-                                            if chest_wall_cutoff_hz is not None else 1.0)
+        p = source_spectrum(f, break_hz) * wall
     above = f[p >= 0.5 * p.max()]
     return {"centre_hz": centre, "band_hz": [float(above[0]), float(above[-1])]}
 

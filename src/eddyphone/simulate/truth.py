@@ -20,6 +20,8 @@ from __future__ import annotations
 
 import numpy as np
 
+from eddyphone.findings.config import ANALYSIS_BANDS_HZ
+
 TRUTH_SCHEMA_VERSION = "1.1"
 
 SEGMENT_LABELS = ("S1", "systole", "S2", "diastole")
@@ -27,10 +29,9 @@ SEGMENT_LABELS = ("S1", "systole", "S2", "diastole")
 #: Labels of ``Simulated.events``: valve components and extra sounds.
 EVENT_LABELS = ("M1", "T1", "A2", "P2", "S3", "S4", "click", "snap")
 
-#: Bands (Hz) in which the recorded murmur-to-noise ratio is measured: octave-wide
-#: over 25-900 Hz, where heart sounds and murmurs lie (common practice); the same
-#: bands as ``eddyphone.findings.config.ANALYSIS_BANDS_HZ``.
-MNR_BANDS_HZ = ((25.0, 75.0), (75.0, 150.0), (150.0, 300.0), (300.0, 600.0), (600.0, 900.0))
+#: Bands (Hz) in which the recorded murmur-to-noise ratio is measured: the findings'
+#: analysis bands, octave-wide over 25-900 Hz where heart sounds and murmurs lie.
+MNR_BANDS_HZ = ANALYSIS_BANDS_HZ
 
 #: Recorded murmur-to-noise ratio (dB, best band) from which a murmur counts as
 #: carried by the recording: its power at least equals the noise's in some band
