@@ -23,6 +23,7 @@ from dataclasses import dataclass
 import numpy as np
 import scipy.fft
 
+from eddyphone.condition import median
 from eddyphone.errors import ParameterError
 from eddyphone.physiology import systolic_interval_s
 
@@ -318,7 +319,7 @@ def rr_statistics(rr_s: np.ndarray, *, irregular_cv: float = IRREGULAR_RR_CV,
         return (float(rr[0]) if len(rr) else None), None, False
     mean = float(rr.mean())
     cv = float(rr.std(ddof=1) / mean) if mean > 0 else None
-    step = float(np.median(np.abs(np.diff(rr))) / np.median(rr)) if mean > 0 else 0.0
+    step = median(np.abs(np.diff(rr))) / median(rr) if mean > 0 else 0.0
     return mean, cv, bool(cv is not None and cv > irregular_cv and step > irregular_step)
 
 
@@ -376,14 +377,14 @@ def rhythm_from_beats(s1_onsets_s: np.ndarray, rr_s: np.ndarray, systoles_s: np.
     if irregular and s2_intervals_s is not None and len(s2_intervals_s) >= 2:
         irregular = rr_statistics(np.asarray(s2_intervals_s, dtype=float),
                                   irregular_cv=irregular_cv)[2]
-    sys_s = float(np.median(systoles_s)) if len(systoles_s) else estimate.systolic_interval_s
+    sys_s = median(systoles_s) if len(systoles_s) else estimate.systolic_interval_s
     if len(rr) >= 2 and mean:
         hr = 60.0 / mean
         # In a rhythm that is not irregular (premature beats allowed) an interval near
         # twice the median hides a missed beat: count it as that many beats for the
         # rate; two short intervals making one hide an invented beat: count them as
         # one (the RR series is kept as found).
-        med = float(np.median(rr))
+        med = median(rr)
         if len(rr) >= 3 and not irregular:
             whole = _merge_inserted(rr, med)
             n_beats = np.where(whole > 1.7 * med, np.round(whole / med), 1.0)

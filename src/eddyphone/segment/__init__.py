@@ -19,6 +19,7 @@ from dataclasses import asdict, dataclass
 
 import numpy as np
 
+from eddyphone.condition import median, percentiles
 from eddyphone.envelope import Envelopes, envelopes
 from eddyphone.errors import InputError, ParameterError
 from eddyphone.physiology import systolic_interval_s
@@ -226,7 +227,7 @@ def _winsorised_sd(v: np.ndarray) -> float:
     """Standard deviation with values beyond the 10th and 90th percentiles pulled in to
     them: a premature beat or two does not decide it, and unlike a median it does not
     fall to zero on 20-ms frames."""
-    lo, hi = np.percentile(v, [10.0, 90.0])
+    lo, hi = percentiles(v, (10.0, 90.0))
     return float(np.std(np.clip(v, lo, hi)))
 
 
@@ -254,7 +255,7 @@ def _swap_cues(starts: np.ndarray, ends: np.ndarray, states: np.ndarray,
         diff = float(np.sum(loglik[rows, frame_state])
                      - np.sum(loglik[rows, (frame_state + 2) % 4]))
         emission = float(np.clip(diff / max(len(sys), 1), -3, 3))
-    sys_m, dia_m = float(np.median(sys)), float(np.median(dia))
+    sys_m, dia_m = median(sys), median(dia)
     hr = 60.0 / (sys_m + dia_m)
     sys_reg = systolic_interval_s(float(np.clip(hr, 20.0, 250.0)))[0]
     expected = (60.0 / hr - sys_reg) - sys_reg
@@ -284,7 +285,7 @@ def _refine(starts, states, est: HeartRateEstimate, ffs: float, cfg: SegmentConf
     cv = float(np.std(rr) / rr_mean)
     sys, _ = _intervals(starts, states, ffs)
     sys = sys[sys < 0.8 * rr_mean]
-    sys_s = float(np.median(sys)) if len(sys) else est.systolic_interval_s
+    sys_s = median(sys) if len(sys) else est.systolic_interval_s
     if (abs(hr - est.heart_rate_bpm) <= cfg.refine_hr_change * est.heart_rate_bpm
             and cv <= 0.5 * cfg.irregular_rr_cv
             and abs(sys_s - est.systolic_interval_s) <= 0.04):
@@ -328,7 +329,7 @@ def _too_even(starts: np.ndarray, states: np.ndarray, ffs: float) -> bool:
     sys, dia = _intervals(starts, states, ffs)
     if len(sys) < 3 or len(dia) < 3:
         return False
-    sys_m, dia_m = float(np.median(sys)), float(np.median(dia))
+    sys_m, dia_m = median(sys), median(dia)
     rr = sys_m + dia_m
     hr = 60.0 / rr
     expected_s = abs(rr - 2.0 * systolic_interval_s(float(np.clip(hr, 20.0, 250.0)))[0])
@@ -597,9 +598,9 @@ def segment(x: np.ndarray, fs: float, *, quality=None,
     beats = beats_from_segments(segments, scores, [a / ffs for a, _ in runs])
     if estimates:
         est = HeartRateEstimate(
-            float(np.median([e.heart_rate_bpm for e in estimates])),
-            float(np.median([e.systolic_interval_s for e in estimates])),
-            float(np.median([e.confidence for e in estimates])))
+            median([e.heart_rate_bpm for e in estimates]),
+            median([e.systolic_interval_s for e in estimates]),
+            median([e.confidence for e in estimates]))
     else:
         est = HeartRateEstimate(float("nan"), float("nan"), 0.0)
     if not segments:

@@ -32,6 +32,7 @@ import numpy as np
 from scipy.optimize import minimize
 from scipy.special import log_softmax
 
+from eddyphone.condition import median, percentiles
 from eddyphone.envelope import Envelopes
 from eddyphone.errors import InputError
 
@@ -61,7 +62,7 @@ def frame_features(env: Envelopes) -> np.ndarray:
         np.log(env.low_band + _TINY),
         np.log(env.mid_band + _TINY),
     ], axis=1)
-    floor, p97 = np.percentile(raw, [20.0, 97.0], axis=0)
+    floor, p97 = percentiles(raw.T, (20.0, 97.0))
     spread = p97 - floor
     rel = (raw - floor) / np.where(spread > 1e-9, spread, 1.0)
     homo = rel[:, 0]
@@ -71,7 +72,7 @@ def frame_features(env: Envelopes) -> np.ndarray:
     # practice) lands above zero and the lower-pitched below, whatever the device.
     tilt = raw[:, 4] - raw[:, 3]
     loud = homo > 0.5
-    centre = np.median(tilt[loud]) if np.count_nonzero(loud) >= 5 else np.median(tilt)
+    centre = median(tilt[loud]) if np.count_nonzero(loud) >= 5 else median(tilt)
     tilt = np.clip(tilt - centre, -3.0, 3.0)
     return np.concatenate([rel, slope[:, None], tilt[:, None]], axis=1)
 

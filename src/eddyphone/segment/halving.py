@@ -27,6 +27,7 @@ from __future__ import annotations
 
 import numpy as np
 
+from eddyphone.condition import median
 from eddyphone.rhythm import autocorrelation_at, envelope_autocorrelation
 
 #: Feature columns (of ``emissions.FEATURE_NAMES``) whose self-similarity is compared:
@@ -96,8 +97,8 @@ def _intervals_alike(starts: np.ndarray, states: np.ndarray) -> bool:
     first, second = sound_intervals(starts, states, 1.0)
     if len(first) < 4 or len(second) < 4:
         return False
-    change_first = float(np.median(np.abs(np.diff(first))))
-    change_second = float(np.median(np.abs(np.diff(second))))
+    change_first = median(np.abs(np.diff(first)))
+    change_second = median(np.abs(np.diff(second)))
     return change_first >= ALIKE_INTERVALS * change_second
 
 

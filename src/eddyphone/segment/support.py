@@ -12,6 +12,7 @@ from __future__ import annotations
 
 import numpy as np
 
+from eddyphone.condition import median
 from eddyphone.rhythm import rr_statistics
 
 
@@ -65,7 +66,7 @@ def fold_doubtful_beats(segs: list[tuple[int, int, int]], scores: list[float],
         return segs, scores
     logs = np.log(np.clip(scores, 1e-6, 1.0))
     support = np.array([np.exp(np.mean(logs[i: i + 4])) for i in beats])
-    limit = min(max_support, float(np.median(support)) - margin)
+    limit = min(max_support, median(support) - margin)
     doubtful = {i for i, sup in zip(beats, support, strict=True) if sup < limit}
     if not doubtful:
         return segs, scores
