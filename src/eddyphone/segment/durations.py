@@ -16,12 +16,14 @@ duration_tables
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 
+import numba
 import numpy as np
-from scipy.special import ndtr
 
 STATES = ("S1", "systole", "S2", "diastole")
+_SQRT2 = math.sqrt(2.0)
 
 
 @dataclass(frozen=True)
@@ -100,23 +102,44 @@ def duration_tables(laws: tuple[StateDuration, ...], feature_fs: float, *,
     log_mass, log_survival : ndarray, shape (N, D + 1)
         Column ``d`` is a duration of ``d`` frames; column 0 is impossible.
     """
-    dmins = np.array([max(1, int(np.floor(law.min_s * feature_fs))) for law in laws])
-    dmaxs = np.maximum(dmins + 1, [int(np.ceil(law.max_s * feature_fs)) for law in laws])
-    d = np.arange(int(dmaxs.max()) + 1, dtype=float)
-    mu = np.array([law.mean_s * feature_fs for law in laws])[:, None]
-    sd = np.array([max(law.sd_s * feature_fs, 0.5) for law in laws])[:, None]
-    # Probability of each whole-frame duration: Gaussian mass in d +/- 1/2.
-    g = ndtr((d + 0.5 - mu) / sd) - ndtr((d - 0.5 - mu) / sd)
-    inside = (d >= dmins[:, None]) & (d <= dmaxs[:, None])
-    g = np.where(inside, g, 0.0)
-    total = g.sum(axis=1, keepdims=True)
-    uniform = inside / inside.sum(axis=1, keepdims=True)
-    g = np.where(total > 0, g / np.where(total > 0, total, 1.0), uniform)
-    mass = (1 - floor_weight) * g + floor_weight * uniform
-    with np.errstate(divide="ignore"):
-        log_mass = np.log(mass)
-        surv = np.cumsum(mass[:, ::-1], axis=1)[:, ::-1]
-        log_surv = np.log(np.clip(surv, 0.0, 1.0))
-    log_mass[:, 0] = -np.inf
-    log_surv[:, 0] = 0.0
+    dmins = np.array([max(1, math.floor(law.min_s * feature_fs)) for law in laws])
+    dmaxs = np.maximum(dmins + 1, [math.ceil(law.max_s * feature_fs) for law in laws])
+    mu = np.array([law.mean_s * feature_fs for law in laws])
+    sd = np.array([max(law.sd_s * feature_fs, 0.5) for law in laws])
+    return _log_tables(mu, sd, dmins, dmaxs, float(floor_weight))
+
+
+@numba.njit(cache=True, nogil=True)
+def _log_tables(mu: np.ndarray, sd: np.ndarray, dmins: np.ndarray, dmaxs: np.ndarray,
+                floor_weight: float) -> tuple[np.ndarray, np.ndarray]:
+    """:func:`duration_tables` from each state's mean, sd and range in frames.
+
+    Written out as a compiled loop: the tables are small (4 x 30-100) and numpy's
+    per-call overhead made them cost as much as a Viterbi decoding.
+    """
+    n, width = len(mu), dmaxs.max() + 1
+    log_mass = np.full((n, width), -np.inf)
+    log_surv = np.full((n, width), -np.inf)
+    g = np.zeros(width)
+    for j in range(n):
+        lo, hi = dmins[j], dmaxs[j]
+        # Gaussian mass in d +/- 1/2: differences of the distribution function,
+        # Phi(z) = erfc(-z / sqrt 2) / 2.
+        total = 0.0
+        below = 0.5 * math.erfc(-(lo - 0.5 - mu[j]) / (sd[j] * _SQRT2))
+        for d in range(lo, hi + 1):
+            above = 0.5 * math.erfc(-(d + 0.5 - mu[j]) / (sd[j] * _SQRT2))
+            g[d] = above - below
+            total += g[d]
+            below = above
+        uniform = 1.0 / (hi - lo + 1)
+        surv = 0.0  # P(D >= d), summed from the longest duration down
+        for d in range(width - 1, 0, -1):
+            if lo <= d <= hi:
+                p = g[d] / total if total > 0 else uniform
+                mass = (1.0 - floor_weight) * p + floor_weight * uniform
+                surv += mass
+                log_mass[j, d] = np.log(mass) if mass > 0 else -np.inf
+            log_surv[j, d] = np.log(min(surv, 1.0)) if surv > 0 else -np.inf
+        log_surv[j, 0] = 0.0
     return log_mass, log_surv
