@@ -74,28 +74,38 @@ def viterbi_cyclic(log_emission: np.ndarray, log_duration: np.ndarray,
     dmins = finite.argmax(axis=1) + 1
     dmaxs = finite.shape[1] - finite[:, ::-1].argmax(axis=1)
     li = np.full(n, -np.log(n)) if log_initial is None else np.asarray(log_initial, float)
-    prev = (np.arange(n) - 1) % n
+    starts, ends, states, score = _decode(np.ascontiguousarray(e), ld, ls, li, dmins, dmaxs)
+    return starts, ends, states, float(score)
 
-    cum = np.zeros((n_frames + 1, n))
-    np.cumsum(e, axis=0, out=cum[1:])
-    end, back = _forward(np.ascontiguousarray(cum.T), ld, ls, li, dmins, dmaxs)
-    surv_t = ls.T  # (D + 1, N)
-    # h[t, j] = end[t, j - 1] - cum[t, j]: a path whose state j starts at frame t.
-    h = end[prev].T - cum
 
-    # The last segment, cut by the right edge.
-    d_last = np.arange(1, min(dmax, n_frames) + 1)
-    start = n_frames - d_last
-    last = h[start] + surv_t[d_last] + cum[n_frames]  # (d, N)
-    last[start == 0] = -np.inf
-    if n_frames <= dmax:  # one segment covering everything
-        whole = li + surv_t[n_frames] + cum[n_frames]
-        last[-1] = np.maximum(last[-1], whole) if start[-1] == 0 else last[-1]
-    flat = int(np.argmax(last))
-    k_d, j = divmod(flat, n)
-    score = float(last[k_d, j])
-    starts, ends, states = _backtrack(back, n_frames - int(d_last[k_d]), n_frames, j)
-    return starts, ends, states, score
+@numba.njit(cache=True, nogil=True)
+def _decode(e: np.ndarray, ld: np.ndarray, ls: np.ndarray, li: np.ndarray,
+            dmins: np.ndarray, dmaxs: np.ndarray
+            ) -> tuple[np.ndarray, np.ndarray, np.ndarray, float]:
+    """The recursion, the choice of the last (right-edge) segment and the backtrack."""
+    t_total, n = e.shape
+    dmax = ld.shape[1] - 1
+    cum_t = np.zeros((n, t_total + 1))
+    for j in range(n):
+        acc = 0.0
+        for t in range(t_total):
+            acc += e[t, j]
+            cum_t[j, t + 1] = acc
+    end, back = _forward(cum_t, ld, ls, li, dmins, dmaxs)
+    # The last segment, cut by the right edge: state j over the last d frames, scored by
+    # survival; over all frames (start 0) only when no full duration fits before it.
+    best, best_d, best_j = -np.inf, 1, 0
+    for d in range(1, min(dmax, t_total) + 1):
+        start = t_total - d
+        for j in range(n):
+            if start == 0:
+                v = li[j] + ls[j, t_total] + cum_t[j, t_total]
+            else:
+                v = end[(j - 1) % n, start] - cum_t[j, start] + ls[j, d] + cum_t[j, t_total]
+            if v > best:
+                best, best_d, best_j = v, d, j
+    starts, ends, states = _backtrack(back, t_total - best_d, t_total, best_j)
+    return starts, ends, states, best
 
 
 @numba.njit(cache=True, nogil=True)
