@@ -49,7 +49,12 @@ def _one(args: tuple) -> dict:
     t1 = time.perf_counter()
     f = describe(c.x, c.fs, beats)
     t2 = time.perf_counter()
-    m = sim.truth["murmur"]
+    return row(spec, sim.truth["murmur"], sim.events, beats, f, t1 - t0, t2 - t1)
+
+
+def row(spec, m: dict, events, beats, f, t_prep_s: float, t_findings_s: float) -> dict:
+    """One benchmark row: the case, its truth (``m`` = ``truth['murmur']``) and what
+    the findings read."""
     main = f.main()
     return {
         "seed": spec.seed, "snr_db": spec.snr_db, "device": spec.device, "hr": spec.heart_rate_bpm,
@@ -70,9 +75,9 @@ def _one(args: tuple) -> dict:
         "level": main.level_db_re_heart_sounds if main else None,
         "centroid": main.centroid_hz if main else None,
         "reason": f.presence_reason, "n_beats": len(beats),
-        "t_extras": sorted({lab for _, _, lab in sim.events} & {"S3", "S4", "click", "snap"}),
+        "t_extras": sorted({lab for _, _, lab in events} & {"S3", "S4", "click", "snap"}),
         "extras": sorted(e.kind for e in f.extra_sounds),
-        "t_prep_s": t1 - t0, "t_findings_s": t2 - t1,
+        "t_prep_s": t_prep_s, "t_findings_s": t_findings_s,
     }
 
 
@@ -104,9 +109,14 @@ def main() -> None:
 
         with open(a.rows, "w") as fh:
             json.dump(rows, fh, indent=1, default=str)
+    summarise(rows, seed=a.seed, beats=a.beats, jobs=a.jobs, wall=wall, worst=a.worst)
 
+
+def summarise(rows: list[dict], *, seed: int, beats: str, jobs: int, wall: float,
+              worst: int = 12) -> None:
+    """Print the benchmark figures from the per-case rows."""
     hi = [r for r in rows if r["snr_db"] >= 10]
-    print(f"benchmark set: {len(rows)} cases (seed {a.seed}), beats from {a.beats}; "
+    print(f"benchmark set: {len(rows)} cases (seed {seed}), beats from {beats}; "
           f"{sum(r['t_present'] for r in rows)} with a murmur as generated, "
           f"{sum(r['t_audible'] for r in rows)} of them carried by the recording")
     # headline: murmurs the recording carries (truth 'audible_in_recording') against
@@ -187,16 +197,17 @@ def main() -> None:
     fnd = sum(r["t_findings_s"] for r in rows) / len(rows)
     print(f"time per 15-s case: findings {fnd * 1000:.0f} ms, generate+condition+beats "
           f"{prep * 1000:.0f} ms (ratio findings/rest {fnd / prep:.2f}); wall {wall:.1f} s "
-          f"with {a.jobs} jobs")
+          f"with {jobs} jobs")
     wrong = [r for r in hi if (r["t_audible"] or r["t_cause"] == "none")
              and r["t_audible"] != (r["presence"] == "present")]
     wrong.sort(key=lambda r: -r["snr_db"])
     print(f"worst presence errors at SNR >= 10 (of {len(wrong)}):")
-    for r in wrong[: a.worst]:
+    for r in wrong[: worst]:
         print(f"  seed {r['seed']} snr {r['snr_db']:.1f} {r['device']:10s} hr {r['hr']:.0f} "
               f"{r['rhythm']:9s} truth {r['t_cause']} g{r['t_grade']} L{r['t_level'] or 0:.0f} "
               f"MNR {r['mnr_db'] if r['mnr_db'] is not None else float('nan'):.0f}"
               f" -> {r['presence']}: {r['reason'][:110]}")
+
 
 
 if __name__ == "__main__":
