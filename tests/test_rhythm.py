@@ -17,6 +17,7 @@ from eddyphone.rhythm import (
     period_candidates,
     rhythm_from_beats,
     rr_statistics,
+    without_premature_pairs,
 )
 
 
@@ -83,6 +84,24 @@ def test_premature_beats_alone_do_not_make_a_rhythm_irregular():
     assert cv > 0.12 and not irregular
     # a rate drifting steadily (recovery after exercise) is not irregular either
     assert not rr_statistics(np.linspace(0.5, 0.8, 20))[2]
+
+
+def test_frequent_premature_beats_are_taken_out_before_irregularity_is_judged():
+    # Common practice: premature beats with compensatory pauses, even every third beat
+    # (trigeminy), make a rhythm regularly irregular, not irregularly irregular. Here
+    # most successive intervals change by over 8 %, so the test on the whole series
+    # alone would flag it.
+    rng = np.random.default_rng(5)
+    rr = 0.8 + 0.01 * rng.standard_normal(24)
+    rr[1::3] = 0.5 + 0.01 * rng.standard_normal(8)   # premature beats ...
+    rr[2::3] = 1.1 + 0.01 * rng.standard_normal(8)   # ... and their pauses
+    core = without_premature_pairs(rr)
+    np.testing.assert_array_equal(core, rr[0::3])
+    assert np.median(np.abs(np.diff(rr))) > 0.08 * np.median(rr)
+    assert not rr_statistics(rr)[2]
+    # an irregular rhythm keeps its flag: few of its intervals form such pairs
+    af = rng.uniform(0.45, 1.15, 30)
+    assert len(without_premature_pairs(af)) >= 20 and rr_statistics(af)[2]
 
 
 def test_rhythm_from_beats_and_fallback():

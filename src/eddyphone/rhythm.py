@@ -297,7 +297,9 @@ def rr_statistics(rr_s: np.ndarray, *, irregular_cv: float = IRREGULAR_RR_CV,
 
     A rhythm is irregular when its RR coefficient of variation exceeds
     ``irregular_cv`` and the median change between successive intervals exceeds
-    ``irregular_step`` of the median interval (see :data:`IRREGULAR_RR_STEP`).
+    ``irregular_step`` of the median interval (see :data:`IRREGULAR_RR_STEP`), both
+    measured without the premature beats (see :func:`without_premature_pairs`): a
+    sinus rhythm with premature beats is regularly irregular, not irregular.
 
     Parameters
     ----------
@@ -319,8 +321,39 @@ def rr_statistics(rr_s: np.ndarray, *, irregular_cv: float = IRREGULAR_RR_CV,
         return (float(rr[0]) if len(rr) else None), None, False
     mean = float(rr.mean())
     cv = float(rr.std(ddof=1) / mean) if mean > 0 else None
-    step = median(np.abs(np.diff(rr))) / median(rr) if mean > 0 else 0.0
-    return mean, cv, bool(cv is not None and cv > irregular_cv and step > irregular_step)
+    if mean <= 0:
+        return mean, cv, False
+    core = without_premature_pairs(rr)
+    if len(core) < 2:
+        core = rr
+    core_cv = float(core.std(ddof=1) / core.mean())
+    step = median(np.abs(np.diff(core))) / median(core)
+    return mean, cv, bool(core_cv > irregular_cv and step > irregular_step)
+
+
+def without_premature_pairs(rr_s: np.ndarray) -> np.ndarray:
+    """``rr_s`` without the interval pairs of premature beats.
+
+    A premature beat shortens its interval (under 0.85 of the median) and is followed
+    by a compensatory pause (over 1.1 of it), the two adding up to about two median
+    intervals (within 15 %): that pattern is taken out before irregularity is judged
+    (common practice: isolated premature beats with compensatory pauses do not make
+    a rhythm irregularly irregular). On the simulator's benchmark draws 0-9 this cut
+    sinus rhythms flagged irregular from 56 to 22 of 769 and irregular ones flagged
+    from 188 to 187 of 190.
+    """
+    rr = np.asarray(rr_s, dtype=float)
+    m = median(rr)
+    keep = np.ones(len(rr), dtype=bool)
+    i = 0
+    while i + 1 < len(rr):
+        if (rr[i] < 0.85 * m and rr[i + 1] > 1.1 * m
+                and abs(rr[i] + rr[i + 1] - 2.0 * m) <= 0.15 * m):
+            keep[i: i + 2] = False
+            i += 2
+        else:
+            i += 1
+    return rr[keep]
 
 
 def _merge_inserted(rr: np.ndarray, median_s: float) -> np.ndarray:
