@@ -16,8 +16,8 @@ Speed
     10 times), and against real time on one core (target: at least 1000 times).
 
 Memory
-    Peak resident memory of a child process segmenting a 1-hour recording
-    (target: under 1 GiB).
+    Peak resident memory of a child process conditioning, scoring and segmenting a
+    1-hour recording held in memory as loaded (target: under 1 GiB).
 
 Usage::
 
@@ -241,6 +241,8 @@ def speed() -> None:
 _MEMORY_CHILD = """
 import sys, time
 import numpy as np
+from eddyphone.condition import condition
+from eddyphone.quality import assess
 from eddyphone.segment import segment
 
 
@@ -249,15 +251,15 @@ def status_mib(key):
         return next(int(line.split()[1]) for line in fh if line.startswith(key)) / 1024
 
 
-x = np.tile(np.load(sys.argv[1]), 60)  # one hour at 4 kHz
-x *= 1.0 / np.sqrt(np.dot(x, x) / len(x))
+x = np.tile(np.load(sys.argv[1]), 60)  # one hour at 4 kHz, as loaded (float64)
 # The peak (VmHWM) starts from the resident size now: a forked child's peak would
 # otherwise include the parent's resident memory at the fork (Linux: proc(5) clear_refs).
 with open('/proc/self/clear_refs', 'w') as fh:
     fh.write('5')
 base = status_mib('VmRSS')
 t0 = time.perf_counter()
-seg = segment(x, 4000.0)
+cond = condition(x, 4000.0)
+seg = segment(cond.x, 4000.0, quality=assess(x, 4000.0, hum_hz=cond.hum_hz))
 dt = time.perf_counter() - t0
 peak = status_mib('VmHWM')
 hr = seg.rhythm.heart_rate_bpm
@@ -266,18 +268,18 @@ print(f"{peak:.0f} {base:.0f} {dt:.2f} {len(seg.beats)} {hr:.1f}")
 
 
 def memory() -> None:
-    """Peak memory of segmenting one hour in a fresh process."""
+    """Peak memory of conditioning, scoring and segmenting one hour in a fresh process."""
     sim = generate(CaseSpec(duration_s=60.0, fs=4000.0, seed=515151, snr_db=20.0))
-    cond = condition(sim.x, sim.fs)
     env = dict(os.environ, OMP_NUM_THREADS="1", OPENBLAS_NUM_THREADS="1")
     with tempfile.TemporaryDirectory() as tmp:
         path = Path(tmp) / "minute.npy"
-        np.save(path, cond.x)
+        np.save(path, sim.x)
         out = subprocess.run([sys.executable, "-c", _MEMORY_CHILD, str(path)],
                              capture_output=True, text=True, env=env, check=True).stdout.split()
     peak, base, dt, beats, hr = out
-    print(f"memory: 1-hour 4-kHz recording (a conditioned minute repeated) segmented with peak "
-          f"RSS {peak} MiB (process with the samples loaded: {base} MiB; target < 1024 MiB) "
+    print(f"memory: 1-hour 4-kHz recording (a minute repeated) conditioned, scored and "
+          f"segmented with peak RSS {peak} MiB (process with the samples loaded: {base} MiB; "
+          f"target < 1024 MiB) "
           f"in {float(dt):.1f} s = {3600 / float(dt):.0f} x real time; {beats} beats, {hr} bpm")
 
 
