@@ -21,6 +21,12 @@ from eddyphone.findings.records import BeatMeasures, Findings
 #: The frame length MIN_WINDOW_S was set for.
 DEFAULT_FRAME_S = 0.032
 
+#: Frames for the murmur's time course (timing and shape words) are this fraction of
+#: the analysis frames, and at least MIN_TIME_FRAME_S long (octave bands from 75 Hz
+#: up still hold a few frequency bins).
+TIME_FRAME_RATIO = 0.5
+MIN_TIME_FRAME_S = 0.008
+
 
 def _usable_beats(beats: Sequence, quality) -> list:
     """Beats whose whole cycle lies in windows quality marked usable."""
@@ -82,7 +88,13 @@ def describe(x: np.ndarray, fs: float, segmentation, *, quality=None,
     spec = spectrogram(x, fs, frame_s=frame_s, hop_s=min(cfg.hop_s, frame_s / 4.0))
     prof = beat_profiles(spec, mbeats, cfg,
                          min_window_s=MIN_WINDOW_S * frame_s / DEFAULT_FRAME_S)
-    search = find_murmurs(spec, prof, cfg)
+    # the murmur's time course from frames half as long (the long frames smear it
+    # over several bins of a short window)
+    t_frame = max(frame_s * TIME_FRAME_RATIO, MIN_TIME_FRAME_S)
+    tspec = spectrogram(x, fs, frame_s=t_frame, hop_s=min(cfg.hop_s, t_frame / 4.0))
+    tprof = beat_profiles(tspec, mbeats, cfg,
+                          min_window_s=MIN_WINDOW_S * frame_s / DEFAULT_FRAME_S)
+    search = find_murmurs(spec, prof, cfg, tprof, t_frame)
     extras = find_extra_sounds(x, fs, beats, cfg)
     murmurs, extras, notes = _resolve_extra_vs_murmur(search.murmurs, extras)
 

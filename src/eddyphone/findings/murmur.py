@@ -110,6 +110,13 @@ PAIRED_T = 6.0
 #: the simulator benchmark against its -20 dB truth).
 EXTENT_DB = 15.0
 
+#: A systolic murmur running from S1 to S2 is holosystolic only when it is still within
+#: this many dB of its peak next to S2 (a holosystolic murmur keeps its intensity up
+#: to S2; a long ejection murmur fades before it: common practice). Our own setting,
+#: checked on the simulator: its holosystolic murmurs end within 4 dB of their peak
+#: on our profile, long ejection murmurs 10-15 dB under it.
+HOLO_END_DB = 10.0
+
 #: Part of a frame taken off each measured edge: a frame reaching past a sound's end
 #: still shows it, but a tapered (Hann) frame weights its ends little, so the smear
 #: at the extent threshold is about a quarter frame, not half (our own setting).
@@ -297,6 +304,8 @@ def _extent(profile: np.ndarray, k0: int, k1: int, extent_db: float) -> tuple[fl
     where it crosses ``extent_db`` below its peak, interpolated between bin centres
     (in dB; past the active run the profile is the noise-subtracted excess)."""
     n = len(profile)
+    if not profile[k0:k1].max() > 0:
+        return k0 / n, k1 / n
     p_db = 10.0 * np.log10(np.maximum(profile / max(profile[k0:k1].max(), 1e-30), 1e-6))
     thr = -float(extent_db)
     inside = [k for k in range(k0, k1) if p_db[k] >= thr]
@@ -524,6 +533,14 @@ def _snr_profile(power: np.ndarray, noise: np.ndarray, bands: list[int]) -> np.n
     return _trimmed_mean((exc / typical[bands][None, :, None]).sum(axis=1), 0.15)
 
 
+def _recording_reference(A: np.ndarray) -> np.ndarray:
+    """Per band, the recording's quiet level in beat-averaged ratios ``A`` (2, bands,
+    bins): the 30th percentile over both windows' bins."""
+    n_bands = A.shape[1]
+    ref = np.percentile(A.transpose(1, 0, 2).reshape(n_bands, -1), 30.0, axis=1)
+    return np.maximum(ref, 1e-30)
+
+
 def _through_s2(R: np.ndarray, bands: list[int], n_bins: int) -> dict:
     """Spill of a systolic murmur (``bands``) into early diastole, per beat: first
     :data:`SPILL_BINS` diastolic bins over the second half of diastole (dB), its mean
@@ -549,7 +566,9 @@ def _continues(stat: dict) -> bool:
                            and stat["spill_db"] >= SPILL_SHARE * stat["rise_db"])
 
 
-def find_murmurs(spec: Spectrogram, prof: Profiles, config: FindingsConfig) -> MurmurSearch:
+def find_murmurs(spec: Spectrogram, prof: Profiles, config: FindingsConfig,
+                 time_prof: Profiles | None = None, time_frame_s: float | None = None
+                 ) -> MurmurSearch:
     """Find and describe murmurs from per-beat profiles.
 
     Parameters
@@ -559,6 +578,9 @@ def find_murmurs(spec: Spectrogram, prof: Profiles, config: FindingsConfig) -> M
     prof : Profiles
         From :func:`eddyphone.findings.measures.beat_profiles`.
     config : FindingsConfig
+    time_prof : Profiles, optional
+        The same beats measured with shorter frames (``time_frame_s`` long), for
+        the murmur's time course (timing and shape); default ``prof``.
 
     Returns
     -------
@@ -575,8 +597,11 @@ def find_murmurs(spec: Spectrogram, prof: Profiles, config: FindingsConfig) -> M
     frame_s = 2.0 * (len(spec.f) - 1) / fs
     R = prof.ratio
     A = _trimmed_mean(R, TRIM)
-    ref_rec = np.percentile(A.transpose(1, 0, 2).reshape(n_bands, -1), 30.0, axis=1)
-    ref_rec = np.maximum(ref_rec, 1e-30)
+    ref_rec = _recording_reference(A)
+    if time_prof is None or not np.array_equal(time_prof.beat_index, prof.beat_index):
+        time_prof, time_frame_s = prof, frame_s
+    noise_t = time_prof.reference * _recording_reference(
+        _trimmed_mean(time_prof.ratio, TRIM))[None, :]
     M = 10.0 * np.log10(np.maximum(A / ref_rec[None, :, None], 1e-12))
     noise_abs = np.median(prof.reference, axis=0) * ref_rec  # typical noise power per band
     X = np.sum(noise_abs[None, :, None] * np.clip(A / ref_rec[None, :, None] - 1.0, 0, None),
@@ -690,7 +715,7 @@ def find_murmurs(spec: Spectrogram, prof: Profiles, config: FindingsConfig) -> M
         prof_w = _trimmed_mean(excess_beats[use][:, c.window], 0.15)
         # time course for timing and shape: the murmur's bands, each counted by how
         # far it stands over its own noise floor (device-independent)
-        prof_snr = _snr_profile(prof.power[use][:, c.window], noise_beat[use], bands)
+        prof_snr = _snr_profile(time_prof.power[use][:, c.window], noise_t[use], bands)
         full = prof_snr / max(prof_snr.max(), 1e-30)
         # (a faint murmur's active run may stop short of S2 while its profile still
         # runs on to it: the profile decides)
@@ -723,13 +748,17 @@ def find_murmurs(spec: Spectrogram, prof: Profiles, config: FindingsConfig) -> M
             whole = length + 2.0 * g
             # a murmur already there when the trimmed window opens runs from the
             # sound itself (the guard hides its start); likewise at the end
-            half = EDGE_SMEAR_FRAMES * frame_s
+            half = EDGE_SMEAR_FRAMES * float(time_frame_s or frame_s)
             t_on = g + onset * length + half if onset > 0 else 0.0
             t_end = g + end * length - half if end < 1 else whole
             if t_end <= t_on:
                 t_on = t_end = 0.5 * (g + onset * length + g + end * length)
             onset, end = t_on / whole, t_end / whole
         timing = timing_word(onset, end)
+        if (timing == "holo" and c.window == SYS
+                and float(full[-1]) < 10.0 ** (-HOLO_END_DB / 10.0)):
+            # run from S1 to S2 but faded by S2: a long ejection murmur, not holosystolic
+            timing = "mid"
         t_conf = float(np.clip(1.0 - 4.0 * min(abs(onset - 0.15), abs(end - 0.85),
                                                abs(onset - 0.5), abs(end - 2 / 3)), 0.4, 1.0))
         full_db = 10.0 * np.log10(np.maximum(full, 1e-6))
