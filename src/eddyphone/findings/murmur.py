@@ -132,6 +132,13 @@ PITCH_SMOOTHING_OCT = 1.0 / 3.0
 #: rough ejection ones 0.30-0.41.
 HARSH_ROUGHNESS = 0.28
 
+#: A musical (tonal) excess seen in fewer than this fraction of the beats is not
+#: reported even as a possible murmur: a murmur is locked to the cycle, while a
+#: wheeze or a voice in the room comes and goes with breathing and speech (our own
+#: setting; the demo's noisy-room recording showed a tonal diastolic excess in 8 of
+#: 19 beats).
+TONAL_MIN_CONSISTENCY = 0.5
+
 #: Lowest dominant frequency (Hz) at which a murmur can be called musical: the
 #: 32-ms analysis frames resolve about 31 Hz, so a tone is only distinguishable from
 #: a noise band when its peak is several bins wide apart (our own limit).
@@ -794,6 +801,10 @@ def find_murmurs(spec: Spectrogram, prof: Profiles, config: FindingsConfig,
             band_e[f"{lo:g}-{hi:g}_hz"] = float(sp["excess"][sel].sum() / tot) if tot > 0 \
                 else 0.0
         snr = float(c.peak_db)
+        if "musical" in words and consistency < TONAL_MIN_CONSISTENCY:
+            rejected.append(f"a musical {name} excess seen in only {shows.sum()}/{n_beats} "
+                            "beats (more likely a wheeze or a voice) is not counted")
+            continue
         if level < cfg.min_level_db_re_heart_sounds:
             rejected.append(f"a {name} excess {level:.0f} dB below the heart sounds is too "
                             "faint to call a murmur")
