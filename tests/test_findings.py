@@ -484,3 +484,40 @@ def test_pitch_word_is_the_one_heard_at_the_chest(cause):
         assert m is not None, f.presence_reason
         assert m.pitch == sim.truth["murmur"]["pitch"], (device, m.pitch,
                                                           sim.truth["murmur"]["centre_hz"])
+
+
+def test_long_ejection_murmur_is_mid_systolic_not_holosystolic():
+    # Common practice: a holosystolic (regurgitant) murmur keeps its intensity up to
+    # S2, an ejection murmur through a narrowed outflow valve fades before it. At 140
+    # bpm the ejection murmur runs close to S2; reference: the simulator's measured
+    # timing ('mid', its rule on the clean envelope), and 'holo' for a leak at the
+    # same rate.
+    for cause, site, word in (("narrowed_outflow", "aortic", "mid"),
+                              ("systolic_leak", "mitral", "holo")):
+        for seed in (40, 41, 42):
+            sim, f = _findings(CaseSpec(murmur=CASES[cause][0], site=site, snr_db=20,
+                                        device="diaphragm", heart_rate_bpm=140,
+                                        breathing=0.3, seed=seed))
+            m = f.main()
+            assert sim.truth["murmur"]["measured"]["timing"] == word
+            assert m is not None and m.phase == "systolic", f.presence_reason
+            assert m.timing == word, (cause, seed, m.timing)
+
+
+def test_tonal_excess_in_few_beats_is_not_reported():
+    # A voice or a wheeze comes and goes; a murmur is locked to the cycle. Reference:
+    # the demo's noisy-room recording (simulator truth: no murmur; speech, friction
+    # and hum in the room), whose tonal diastolic excess shows in under half the beats.
+    from pathlib import Path
+
+    from eddyphone.io import load
+    from eddyphone.segment import segment
+
+    root = Path(__file__).resolve().parents[1] / "sample_audio"
+    truth = json.loads((root / "06_noisy_room.truth.json").read_text())
+    assert not truth["murmur"]["present"]
+    rec = load(root / "06_noisy_room.wav")
+    c = condition(rec.x, rec.fs)
+    f = describe(c.x, c.fs, segment(c.x, c.fs))
+    assert f.presence == "absent", f.presence_reason
+    assert "musical" in f.presence_reason
