@@ -356,6 +356,23 @@ def without_premature_pairs(rr_s: np.ndarray) -> np.ndarray:
     return rr[keep]
 
 
+#: Share of the per-beat intervals cut from each end before a regular rhythm's rate
+#: is averaged (a 10 % trimmed mean, a common robust estimator of the mean). Sinus
+#: variability and premature-beat pairs are about symmetric about the median, so
+#: trimming leaves the mean rate; a misplaced sound's odd interval is cut. On the
+#: captured intervals of benchmark draws 0-9, heart rate within 2 bpm went from 854 to
+#: 865 of 959 recordings.
+REGULAR_TRIM = 0.1
+
+
+def trimmed_mean(values: np.ndarray, proportion: float) -> float:
+    """Mean after cutting ``int(proportion * n)`` values from each end of the sorted
+    values (as ``scipy.stats.trim_mean``)."""
+    v = np.sort(np.asarray(values, dtype=float))
+    k = int(proportion * len(v))
+    return float(v[k: len(v) - k].mean())
+
+
 def _merge_inserted(rr: np.ndarray, median_s: float) -> np.ndarray:
     """``rr`` with every two successive short intervals that add up to about one
     median interval (within 15 %, each under 0.8 of it) made one: a sound taken for
@@ -416,12 +433,14 @@ def rhythm_from_beats(s1_onsets_s: np.ndarray, rr_s: np.ndarray, systoles_s: np.
         # In a rhythm that is not irregular (premature beats allowed) an interval near
         # twice the median hides a missed beat: count it as that many beats for the
         # rate; two short intervals making one hide an invented beat: count them as
-        # one (the RR series is kept as found).
+        # one (the RR series is kept as found). The rate is then the trimmed mean of
+        # the per-beat intervals, robust to the odd interval a misplaced sound leaves.
         med = median(rr)
         if len(rr) >= 3 and not irregular:
             whole = _merge_inserted(rr, med)
             n_beats = np.where(whole > 1.7 * med, np.round(whole / med), 1.0)
-            hr = 60.0 * float(np.sum(n_beats)) / float(np.sum(rr))
+            per_beat = np.repeat(whole / n_beats, n_beats.astype(int))
+            hr = 60.0 / trimmed_mean(per_beat, REGULAR_TRIM)
         agree = float(np.exp(-abs(hr - estimate.heart_rate_bpm) / 10.0))
         conf = float(np.clip(beat_confidence * (0.5 + 0.5 * max(agree, estimate.confidence)),
                              0.0, 1.0))
