@@ -8,6 +8,7 @@ import json
 import numpy as np
 import pytest
 from _clicks import click_train
+from scipy.special import ndtr
 
 from eddyphone.condition import condition
 from eddyphone.errors import InputError, ParameterError
@@ -92,6 +93,30 @@ def test_duration_tables_are_distributions():
     np.testing.assert_allclose(ls[:, 1], 0.0, atol=1e-12)  # P(D >= 1) = 1
     # The S1 law peaks at the published mean (Schmidt et al. 2010: 122 ms = 6 frames).
     assert int(np.argmax(ld[0])) == 6
+
+
+
+def test_duration_tables_equal_the_gaussian_mass_from_scipy():
+    # Reference: scipy.special.ndtr (the normal distribution function). Inside each
+    # state's range the mass of d frames is the Gaussian mass in d +/- 1/2, normalised
+    # over the range and mixed with the uniform floor; the survival sums it from above.
+    laws = state_durations(95.0, systolic_interval_s(95.0)[0], s1_s=(0.122, 0.022),
+                           s2_s=(0.092, 0.022), systole_sd_s=0.025,
+                           diastole_sd_fraction=0.07, diastole_sd_floor_s=0.02,
+                           rr_spread_s=0.1)
+    fs, floor = 50.0, 0.03
+    ld, ls = duration_tables(laws, fs, floor_weight=floor)
+    for j, law in enumerate(laws):
+        lo = max(1, int(np.floor(law.min_s * fs)))
+        hi = max(lo + 1, int(np.ceil(law.max_s * fs)))
+        d = np.arange(lo, hi + 1)
+        mu, sd = law.mean_s * fs, max(law.sd_s * fs, 0.5)
+        g = ndtr((d + 0.5 - mu) / sd) - ndtr((d - 0.5 - mu) / sd)
+        mass = (1 - floor) * g / g.sum() + floor / len(d)
+        np.testing.assert_allclose(np.exp(ld[j, lo: hi + 1]), mass, rtol=1e-9)
+        assert np.all(np.isneginf(ld[j, hi + 1:])) and np.all(np.isneginf(ld[j, :lo]))
+        np.testing.assert_allclose(np.exp(ls[j, lo: hi + 1]), np.cumsum(mass[::-1])[::-1],
+                                   rtol=1e-9)
 
 
 # --- facts of the trade on synthetic normal recordings -----------------------------
