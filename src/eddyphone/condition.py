@@ -8,6 +8,7 @@ zero_phase(sos, zi, x, padlen)   forward-backward filtering (as scipy.signal.sos
 welch_psd(x, fs, nperseg)        averaged periodogram (as scipy.signal.welch)
 percentiles(a, q)                np.percentile (linear) by one partial sort
 median(a)                        np.median of a 1-D array, the same way
+trimmed_mean(values, proportion) mean along the first axis without the extremes
 hann_window(n)                   periodic Hann window, cached and read-only
 despike(x, fs, ...)              suppress friction and handling spikes
 detect_hum(x, fs)                mains-hum fundamental (50/60 Hz) or None
@@ -155,17 +156,17 @@ def _sections_forward_backward(sos: np.ndarray, zi: np.ndarray, x: np.ndarray) -
     of two library calls and the copies between them (a fifth faster).
     """
     n, n_sections = len(x), len(sos)
-    y = np.empty(n)
+    y = x.copy()  # filtered in place, one pass each way
     z0 = np.empty(n_sections)
     z1 = np.empty(n_sections)
     for direction in range(2):
-        first = x[0] if direction == 0 else y[n - 1]
+        first = y[0] if direction == 0 else y[n - 1]
         for s in range(n_sections):
             z0[s] = zi[s, 0] * first
             z1[s] = zi[s, 1] * first
         for k in range(n):
             i = k if direction == 0 else n - 1 - k
-            v = x[i] if direction == 0 else y[i]
+            v = y[i]
             for s in range(n_sections):
                 out = sos[s, 0] * v + z0[s]
                 z0[s] = sos[s, 1] * v - sos[s, 4] * out + z1[s]
@@ -276,6 +277,15 @@ def median(a) -> float:
     """``np.median`` of a 1-D sequence by :func:`percentiles` (a third of the time on
     the short arrays of intervals the segmenter takes medians of); NaN when empty."""
     return percentiles(np.asarray(a, dtype=np.float64), (50.0,))[0]
+
+
+def trimmed_mean(values: np.ndarray, proportion: float):
+    """Mean along the first axis after cutting ``int(proportion * n)`` values from each
+    end of the sorted values (as ``scipy.stats.trim_mean``); the plain mean when that
+    would leave nothing."""
+    v = np.sort(np.asarray(values), axis=0)
+    k = int(np.floor(proportion * len(v)))
+    return v[k: len(v) - k].mean(axis=0) if len(v) > 2 * k else v.mean(axis=0)
 
 
 #: Segments transformed at once by :func:`welch_psd` (bounds its memory on long input).

@@ -23,7 +23,7 @@ from dataclasses import dataclass
 import numpy as np
 import scipy.fft
 
-from eddyphone.condition import median
+from eddyphone.condition import median, trimmed_mean
 from eddyphone.errors import ParameterError
 from eddyphone.physiology import systolic_interval_s
 
@@ -344,16 +344,9 @@ def without_premature_pairs(rr_s: np.ndarray) -> np.ndarray:
     """
     rr = np.asarray(rr_s, dtype=float)
     m = median(rr)
-    keep = np.ones(len(rr), dtype=bool)
-    i = 0
-    while i + 1 < len(rr):
-        if (rr[i] < 0.85 * m and rr[i + 1] > 1.1 * m
-                and abs(rr[i] + rr[i + 1] - 2.0 * m) <= 0.15 * m):
-            keep[i: i + 2] = False
-            i += 2
-        else:
-            i += 1
-    return rr[keep]
+    starts = _pair_starts(rr, lambda a, b: a < 0.85 * m and b > 1.1 * m
+                          and abs(a + b - 2.0 * m) <= 0.15 * m)
+    return np.delete(rr, [j for i in starts for j in (i, i + 1)])
 
 
 #: Share of the per-beat intervals cut from each end before a regular rhythm's rate
@@ -365,12 +358,17 @@ def without_premature_pairs(rr_s: np.ndarray) -> np.ndarray:
 REGULAR_TRIM = 0.1
 
 
-def trimmed_mean(values: np.ndarray, proportion: float) -> float:
-    """Mean after cutting ``int(proportion * n)`` values from each end of the sorted
-    values (as ``scipy.stats.trim_mean``)."""
-    v = np.sort(np.asarray(values, dtype=float))
-    k = int(proportion * len(v))
-    return float(v[k: len(v) - k].mean())
+def _pair_starts(rr: np.ndarray, is_pair) -> list[int]:
+    """Starts ``i`` of the successive pairs ``(rr[i], rr[i + 1])`` that ``is_pair``
+    accepts, scanned left to right without overlap."""
+    starts, i = [], 0
+    while i + 1 < len(rr):
+        if is_pair(rr[i], rr[i + 1]):
+            starts.append(i)
+            i += 2
+        else:
+            i += 1
+    return starts
 
 
 def _merge_inserted(rr: np.ndarray, median_s: float) -> np.ndarray:
@@ -378,17 +376,11 @@ def _merge_inserted(rr: np.ndarray, median_s: float) -> np.ndarray:
     median interval (within 15 %, each under 0.8 of it) made one: a sound taken for
     an extra beat splits one interval so. A premature beat differs: its short
     interval is followed by a compensatory pause, the two adding up to about two."""
-    out = []
-    i = 0
-    while i < len(rr):
-        if (i + 1 < len(rr) and max(rr[i], rr[i + 1]) < 0.8 * median_s
-                and abs(rr[i] + rr[i + 1] - median_s) <= 0.15 * median_s):
-            out.append(rr[i] + rr[i + 1])
-            i += 2
-        else:
-            out.append(rr[i])
-            i += 1
-    return np.array(out)
+    starts = _pair_starts(rr, lambda a, b: max(a, b) < 0.8 * median_s
+                          and abs(a + b - median_s) <= 0.15 * median_s)
+    out = np.array(rr, dtype=float)
+    out[starts] += out[[i + 1 for i in starts]]
+    return np.delete(out, [i + 1 for i in starts])
 
 
 def rhythm_from_beats(s1_onsets_s: np.ndarray, rr_s: np.ndarray, systoles_s: np.ndarray,
@@ -440,7 +432,7 @@ def rhythm_from_beats(s1_onsets_s: np.ndarray, rr_s: np.ndarray, systoles_s: np.
             whole = _merge_inserted(rr, med)
             n_beats = np.where(whole > 1.7 * med, np.round(whole / med), 1.0)
             per_beat = np.repeat(whole / n_beats, n_beats.astype(int))
-            hr = 60.0 / trimmed_mean(per_beat, REGULAR_TRIM)
+            hr = 60.0 / float(trimmed_mean(per_beat, REGULAR_TRIM))
         agree = float(np.exp(-abs(hr - estimate.heart_rate_bpm) / 10.0))
         conf = float(np.clip(beat_confidence * (0.5 + 0.5 * max(agree, estimate.confidence)),
                              0.0, 1.0))

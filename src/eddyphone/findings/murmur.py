@@ -48,6 +48,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from eddyphone.condition import trimmed_mean
 from eddyphone.findings.config import (
     PITCH_BOUNDARIES_HZ,
     PITCH_BOUNDARIES_RE_NOISE_HZ,
@@ -309,13 +310,6 @@ class MurmurSearch:
     evidence: dict = field(default_factory=dict)
 
 
-def _trimmed_mean(values: np.ndarray, cut: float) -> np.ndarray:
-    n = values.shape[0]
-    k = int(np.floor(cut * n))
-    s = np.sort(values, axis=0)
-    return s[k: n - k].mean(axis=0) if n - 2 * k > 0 else s.mean(axis=0)
-
-
 def _extent(profile: np.ndarray, k0: int, k1: int, extent_db: float) -> tuple[float, float]:
     """Onset and end (fractions of the window) of the murmur in ``profile[k0:k1]``:
     where it crosses ``extent_db`` below its peak, interpolated between bin centres
@@ -547,7 +541,7 @@ def _snr_profile(power: np.ndarray, noise: np.ndarray, bands: list[int]) -> np.n
     summed over the bands (15 % trimmed mean over beats)."""
     typical = np.maximum(np.median(noise, axis=0), 1e-30)
     exc = np.clip(power[:, bands] - noise[:, bands, None], 0.0, None)
-    return _trimmed_mean((exc / typical[bands][None, :, None]).sum(axis=1), 0.15)
+    return trimmed_mean((exc / typical[bands][None, :, None]).sum(axis=1), 0.15)
 
 
 def _jaggedness_db(m_db: np.ndarray) -> float:
@@ -623,12 +617,12 @@ def find_murmurs(spec: Spectrogram, prof: Profiles, config: FindingsConfig,
     fs = 2.0 * float(spec.f[-1])
     frame_s = 2.0 * (len(spec.f) - 1) / fs
     R = prof.ratio
-    A = _trimmed_mean(R, TRIM)
+    A = trimmed_mean(R, TRIM)
     ref_rec = _recording_reference(A)
     if time_prof is None or not np.array_equal(time_prof.beat_index, prof.beat_index):
         time_prof, time_frame_s = prof, frame_s
     noise_t = time_prof.reference * _recording_reference(
-        _trimmed_mean(time_prof.ratio, TRIM))[None, :]
+        trimmed_mean(time_prof.ratio, TRIM))[None, :]
     M = 10.0 * np.log10(np.maximum(A / ref_rec[None, :, None], 1e-12))
     noise_abs = np.median(prof.reference, axis=0) * ref_rec  # typical noise power per band
     X = np.sum(noise_abs[None, :, None] * np.clip(A / ref_rec[None, :, None] - 1.0, 0, None),
@@ -739,7 +733,7 @@ def find_murmurs(spec: Spectrogram, prof: Profiles, config: FindingsConfig,
                             f"(below {cfg.uncertain_consistency:.0%}) is not counted")
             continue
         use = shows if shows.sum() >= 2 else np.ones(n_beats, dtype=bool)
-        prof_w = _trimmed_mean(excess_beats[use][:, c.window], 0.15)
+        prof_w = trimmed_mean(excess_beats[use][:, c.window], 0.15)
         # time course for timing and shape: the murmur's bands, each counted by how
         # far it stands over its own noise floor (device-independent)
         prof_snr = _snr_profile(time_prof.power[use][:, c.window], noise_t[use], bands)
@@ -757,7 +751,7 @@ def find_murmurs(spec: Spectrogram, prof: Profiles, config: FindingsConfig,
                             if lo >= SPILL_LOWEST_BAND_HZ][:1]
             through = _through_s2(R, hi_bands, n_bins)
             if _continues(through):
-                dia_w = _trimmed_mean(excess_beats[use][:, DIA], 0.15)
+                dia_w = trimmed_mean(excess_beats[use][:, DIA], 0.15)
                 spill_profile = tuple(float(v) for v in np.concatenate([prof_w, dia_w])
                                       / max(float(prof_w.max()), 1e-30))
         seg = full[c.k0:c.k1]
