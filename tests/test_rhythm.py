@@ -199,3 +199,29 @@ def test_invented_beat_in_a_regular_rhythm_counts_once():
     assert len(r.rr_s) == 22  # the series is kept as found
     assert r.heart_rate_bpm == pytest.approx(60.0 * 21 / rr.sum())
     assert r.heart_rate_bpm == pytest.approx(48.0)
+
+
+def test_regular_rhythm_with_many_missed_beats_is_not_irregular():
+    # Hand count: 40 beats of 0.375 s (160 bpm), every third beat missed by the
+    # detector, so the found series reads 0.375, 0.375, 0.75 and looks irregular by its
+    # coefficient of variation and beat-to-beat change. Counted right it is 160 bpm and
+    # regular. A lognormal series of coefficient of variation 0.25 (independent RR, the
+    # irregularly irregular rhythm of atrial fibrillation, common practice) with one
+    # long pause stays irregular and keeps its plain mean rate.
+    rr = np.tile([0.375, 0.375, 0.75], 10)
+    est = HeartRateEstimate(120.0, 0.25, 0.5)
+    s2 = np.concatenate([[0.0], np.cumsum(rr)])[:-1] + 0.25
+    assert rr_statistics(rr)[2]
+    r = rhythm_from_beats(np.zeros(31), rr, np.full(31, 0.25), est,
+                          s2_intervals_s=np.diff(s2))
+    assert not r.irregular
+    assert r.heart_rate_bpm == pytest.approx(160.0, abs=1e-6)
+    rng = np.random.default_rng(21)
+    sigma = np.sqrt(np.log(1 + 0.25 ** 2))
+    rr_af = 0.6 * np.exp(rng.normal(-0.5 * sigma ** 2, sigma, 30))
+    rr_af[11] = 1.3
+    s2_af = np.concatenate([[0.0], np.cumsum(rr_af)])[:-1] + 0.25
+    r_af = rhythm_from_beats(np.zeros(31), rr_af, np.full(31, 0.25), est,
+                             s2_intervals_s=np.diff(s2_af))
+    assert r_af.irregular
+    assert r_af.heart_rate_bpm == pytest.approx(60.0 / rr_af.mean())

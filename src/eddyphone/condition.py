@@ -187,14 +187,43 @@ def _odd_extension(x: np.ndarray, n: int) -> np.ndarray:
     return ext
 
 
+#: A window "holds a sound" for :func:`spike_reference` when its peak is at least this
+#: many times the 10th percentile of the window peaks (the windows of noise alone).
+SOUND_OVER_QUIET = 2.0
+#: Share of the windows that must hold a sound before they give the spike reference
+#: (at 30 bpm with S1 and S2 in separate 0.5-s windows, a third of the windows do).
+SOUND_WINDOWS_SHARE = 0.3
+
+
+def spike_reference(peaks: np.ndarray) -> float:
+    """The typical peak of the windows that hold a sound (heart sound or spike).
+
+    The median of the window peaks at least :data:`SOUND_OVER_QUIET` times the 10th
+    percentile, when at least :data:`SOUND_WINDOWS_SHARE` of the windows are such
+    (heart sounds recur in every cycle; spikes are rare), and never below the median
+    of all windows. Otherwise (a noisy recording, or sounds in every window with a few
+    spikes standing out) it is the plain median.
+    """
+    quiet = percentiles(peaks, (10.0,))[0]
+    loud = peaks[peaks >= SOUND_OVER_QUIET * quiet]
+    everything = median(peaks)
+    if len(loud) >= max(3, SOUND_WINDOWS_SHARE * len(peaks)):
+        return max(median(loud), everything)
+    return everything
+
+
 def despike(x: np.ndarray, fs: float, *, threshold: float = 3.0, window_s: float = 0.5,
             max_spikes: int = 500) -> tuple[np.ndarray, int]:
     """Suppress spikes by zeroing them between the zero crossings around each peak.
 
     The method of Schmidt et al. (2010, Physiol. Meas. 31:513): split into
     ``window_s`` windows; while a window's peak exceeds ``threshold`` times the
-    median window peak, zero the spike around its peak out to the neighbouring
-    zero crossings.
+    reference window peak, zero the spike around its peak out to the neighbouring
+    zero crossings. Schmidt et al. take the median window peak as the reference;
+    here it is the median over the windows that hold a sound at all (see
+    :func:`spike_reference`), because at slow rates and in long pauses most
+    windows hold no heart sound, and against the median (then the noise) the
+    heart sounds themselves were taken for spikes.
 
     Returns the cleaned copy and the number of spikes removed.
     """
@@ -207,9 +236,9 @@ def despike(x: np.ndarray, fs: float, *, threshold: float = 3.0, window_s: float
     peaks = np.max(np.abs(body), axis=1)
     removed = 0
     while removed < max_spikes:
-        median = np.median(peaks)
+        reference = spike_reference(peaks)
         worst = int(np.argmax(peaks))
-        if median <= 0 or peaks[worst] <= threshold * median:
+        if reference <= 0 or peaks[worst] <= threshold * reference:
             break
         row = body[worst]
         centre = int(np.argmax(np.abs(row)))

@@ -383,6 +383,20 @@ def _merge_inserted(rr: np.ndarray, median_s: float) -> np.ndarray:
     return np.delete(out, [i + 1 for i in starts])
 
 
+def per_beat_intervals(rr_s: np.ndarray) -> np.ndarray:
+    """The RR series as one interval per beat, for the rate of a regular rhythm.
+
+    Two short intervals adding up to about one median hide an invented beat and count
+    as one (:func:`_merge_inserted`); an interval over 1.7 median hides missed beats and
+    counts as ``round(interval / median)`` equal ones.
+    """
+    rr = np.asarray(rr_s, dtype=float)
+    med = median(rr)
+    whole = _merge_inserted(rr, med)
+    n_beats = np.where(whole > 1.7 * med, np.round(whole / med), 1.0)
+    return np.repeat(whole / n_beats, n_beats.astype(int))
+
+
 def rhythm_from_beats(s1_onsets_s: np.ndarray, rr_s: np.ndarray, systoles_s: np.ndarray,
                       estimate: HeartRateEstimate, *, irregular_cv: float = IRREGULAR_RR_CV,
                       beat_confidence: float = 1.0,
@@ -422,17 +436,18 @@ def rhythm_from_beats(s1_onsets_s: np.ndarray, rr_s: np.ndarray, systoles_s: np.
     sys_s = median(systoles_s) if len(systoles_s) else estimate.systolic_interval_s
     if len(rr) >= 2 and mean:
         hr = 60.0 / mean
-        # In a rhythm that is not irregular (premature beats allowed) an interval near
-        # twice the median hides a missed beat: count it as that many beats for the
-        # rate; two short intervals making one hide an invented beat: count them as
-        # one (the RR series is kept as found). The rate is then the trimmed mean of
-        # the per-beat intervals, robust to the odd interval a misplaced sound leaves.
-        med = median(rr)
-        if len(rr) >= 3 and not irregular:
-            whole = _merge_inserted(rr, med)
-            n_beats = np.where(whole > 1.7 * med, np.round(whole / med), 1.0)
-            per_beat = np.repeat(whole / n_beats, n_beats.astype(int))
-            hr = 60.0 / float(trimmed_mean(per_beat, REGULAR_TRIM))
+        # In a rhythm that is not irregular (premature beats allowed) the rate is the
+        # trimmed mean of the per-beat intervals (see per_beat_intervals), robust to
+        # the odd interval a misplaced sound leaves. A series that is irregular only
+        # through its missed and invented beats (regular once they are counted right)
+        # is a regular rhythm: missed beats at a fast rate leave intervals of one and
+        # two periods, which pass every irregularity test.
+        if len(rr) >= 3:
+            per_beat = per_beat_intervals(rr)
+            if irregular and not rr_statistics(per_beat, irregular_cv=irregular_cv)[2]:
+                irregular = False
+            if not irregular:
+                hr = 60.0 / float(trimmed_mean(per_beat, REGULAR_TRIM))
         agree = float(np.exp(-abs(hr - estimate.heart_rate_bpm) / 10.0))
         conf = float(np.clip(beat_confidence * (0.5 + 0.5 * max(agree, estimate.confidence)),
                              0.0, 1.0))
