@@ -338,6 +338,17 @@ def test_doubtful_beat_folded_only_in_irregular_rhythm():
     segs, scores = cycle([40, 70, 55, 30, 80, 35, 60, 45], weak=4)
     assert fold_doubtful_beats(segs, scores, *fold)[0] == segs
     assert len(fold_doubtful_beats(segs, scores, *fold, max_merged_rr=2.5)[0]) == len(segs) - 4
+    # two weak beats side by side (a real beat and a sound read as a beat just after
+    # it): each alone folds within 1.6 median RR (previous to next S1: 55 and 75
+    # frames against a median of 47.5), both together would leave 105 frames, two
+    # intervals in one. Only the weaker (the second) is folded: 8 of 9 beats remain.
+    segs, scores = cycle([50, 60, 30, 25, 50, 55, 45, 60, 50], weak=3)
+    scores = [0.45 if 16 <= i < 20 and s[2] in (0, 2) else v
+              for i, (v, s) in enumerate(zip(scores, segs, strict=True))]
+    out, _ = fold_doubtful_beats(segs, scores, *fold)
+    assert len(out) == len(segs) - 4
+    assert sum(1 for s in out if s[2] == 0) == 8
+    assert any(s[2] == 3 and s[0] == segs[15][0] and s[1] == segs[19][1] for s in out)
 
 
 # --- half-rate readings -------------------------------------------------------------

@@ -63,42 +63,42 @@ def fold_doubtful_beats(segs: list[tuple[int, int, int]], scores: list[float],
     segs, scores
         With every doubtful beat and the diastoles around it made one diastole.
     """
-    labels = [k for _, _, k in segs]
-    beats = [i for i in range(1, len(segs) - 3) if labels[i - 1: i + 4] == [3, 0, 1, 2, 3]]
-    s1_onsets = np.array([segs[i][0] for i in beats], dtype=float)
+    beats, s1_onsets = _beats(segs)
     if len(beats) < 4:
         return segs, scores
     if not rr_statistics(np.diff(s1_onsets), irregular_cv=irregular_cv)[2]:
         return segs, scores
+    limit = min(max_support, median(_support(scores, beats)) - margin)
+    # One beat at a time, the least supported first: two doubtful beats side by side
+    # (a real beat and a sound read as one just after it) may each pass the interval
+    # limit while folding both leaves two intervals in one.
+    while len(beats) >= 3:
+        support = _support(scores, beats)
+        merged = np.full(len(beats), -np.inf)  # beats at the ends of the stretch: no limit
+        merged[1:-1] = (s1_onsets[2:] - s1_onsets[:-2]) / median(np.diff(s1_onsets))
+        doubtful = (support < limit) & (merged <= max_merged_rr)
+        if not doubtful.any():
+            break
+        i = beats[int(np.argmin(np.where(doubtful, support, np.inf)))]
+        span = range(i - 1, i + 4)  # diastole, S1, systole, S2, diastole -> one diastole
+        length = sum(segs[k][1] - segs[k][0] for k in span)
+        score = sum((1.0 - scores[k] if segs[k][2] in (0, 2) else scores[k])
+                    * (segs[k][1] - segs[k][0]) for k in span) / length
+        segs = segs[: i - 1] + [(segs[i - 1][0], segs[i + 3][1], 3)] + segs[i + 4:]
+        scores = scores[: i - 1] + [score] + scores[i + 4:]
+        beats, s1_onsets = _beats(segs)
+    return segs, scores
+
+
+def _beats(segs: list[tuple[int, int, int]]) -> tuple[list[int], np.ndarray]:
+    """Indices of the S1s of whole beats (diastole, S1, systole, S2, diastole) and
+    their onsets."""
+    labels = [k for _, _, k in segs]
+    beats = [i for i in range(1, len(segs) - 3) if labels[i - 1: i + 4] == [3, 0, 1, 2, 3]]
+    return beats, np.array([segs[i][0] for i in beats], dtype=float)
+
+
+def _support(scores: list[float], beats: list[int]) -> np.ndarray:
+    """Geometric mean of each beat's four segment scores."""
     logs = np.log(np.clip(scores, 1e-6, 1.0))
-    support = np.array([np.exp(np.mean(logs[i: i + 4])) for i in beats])
-    limit = min(max_support, median(support) - margin)
-    rr_median = median(np.diff(s1_onsets))
-    merged = np.full(len(beats), -np.inf)  # beats at the ends of the stretch: no limit
-    merged[1:-1] = (s1_onsets[2:] - s1_onsets[:-2]) / rr_median
-    doubtful = {i for i, sup, gap in zip(beats, support, merged, strict=True)
-                if sup < limit and gap <= max_merged_rr}
-    if not doubtful:
-        return segs, scores
-    out_segs: list[tuple[int, int, int]] = []
-    out_scores: list[float] = []
-    skip_to = -1
-    for i, (seg, score) in enumerate(zip(segs, scores, strict=True)):
-        if i < skip_to:
-            continue
-        if i + 1 in doubtful and seg[2] == 3:
-            # diastole, S1, systole, S2, diastole -> one diastole
-            j = i + 4
-            while j + 1 in doubtful:  # consecutive doubtful beats fold together
-                j += 4
-            span = range(i, j + 1)
-            length = sum(segs[k][1] - segs[k][0] for k in span)
-            merged = sum((1.0 - scores[k] if segs[k][2] in (0, 2) else scores[k])
-                         * (segs[k][1] - segs[k][0]) for k in span) / length
-            out_segs.append((seg[0], segs[j][1], 3))
-            out_scores.append(merged)
-            skip_to = j + 1
-            continue
-        out_segs.append(seg)
-        out_scores.append(score)
-    return out_segs, out_scores
+    return np.array([np.exp(np.mean(logs[i: i + 4])) for i in beats])
