@@ -11,9 +11,12 @@ GRADE_NAMES
 
 from __future__ import annotations
 
+import math
 from collections.abc import Mapping
 from dataclasses import dataclass, field
 from typing import Any
+
+from eddyphone.findings.config import PITCH_BOUNDARIES_HZ
 
 #: Roman numerals of the six-grade intensity scale (Levine scale, common practice).
 GRADE_NAMES = ("I", "II", "III", "IV", "V", "VI")
@@ -113,6 +116,28 @@ class Murmur:
     presystolic_accent: bool = False
 
     @property
+    def pitch_text(self) -> str:
+        """The pitch word with the dominant frequency beside it, e.g. ``'medium-pitched
+        (dominant 220 Hz)'``.
+
+        The word comes from where the murmur stands out of the recording's noise
+        floor, which the chest piece's response does not shift; the dominant frequency
+        is the recorded one, which it does. Where the dominant frequency alone would
+        give another word on the common-practice edges
+        (:data:`~eddyphone.findings.config.PITCH_BOUNDARIES_HZ`), the text says so
+        instead of printing a number that seems to contradict the word.
+        """
+        f = self.dominant_frequency_hz
+        if math.isnan(f):
+            return f"{self.pitch}-pitched"
+        lo, hi = PITCH_BOUNDARIES_HZ
+        plain = "low" if f < lo else ("medium" if f < hi else "high")
+        if plain == self.pitch:
+            return f"{self.pitch}-pitched (dominant {f:.0f} Hz)"
+        return (f"{self.pitch}-pitched by its rise over the noise floor (the recorded "
+                f"dominant {f:.0f} Hz alone would read {plain})")
+
+    @property
     def grade_text(self) -> str:
         """The grade range in numerals, e.g. ``'II–III'`` or ``'II'``."""
         lo, hi = self.grade_range
@@ -128,8 +153,7 @@ class Murmur:
         words = " ".join(self.quality_words)
         accent = " with presystolic accentuation" if self.presystolic_accent else ""
         text = (f"grade {self.grade_text}/VI {words + ' ' if words else ''}{when} "
-                f"{self.shape} murmur{accent}, {self.pitch}-pitched "
-                f"(dominant {self.dominant_frequency_hz:.0f} Hz), "
+                f"{self.shape} murmur{accent}, {self.pitch_text}, "
                 f"in {self.beats_with_murmur}/{self.beats_used} beats")
         return text if self.presence == "present" else f"possible {text}"
 
