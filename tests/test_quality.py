@@ -124,7 +124,7 @@ def test_clear_heart_sounds_without_periodicity_stay_usable_even_with_hum():
     # Common practice: atrial fibrillation is a rhythm, not a recording fault. Hand
     # computed: contrast 16 dB ramps to (16 - 6) / (18 - 6) = 0.833; periodicity 0.1 is
     # below the poor value (sub-score 0); hum costs 10 %. Score 0.833 * 0.6 * 0.9 = 0.45,
-    # above the usable threshold of 0.35 (at a floor of 0.4 it was 0.30, unusable).
+    # above the usable threshold of 0.28 (at a floor of 0.4 it was 0.30).
     from eddyphone.quality import QualityMeasures, _score
 
     m = QualityMeasures(contrast_db=16.0, periodicity=0.1, clipping_fraction=0.0,
@@ -134,6 +134,20 @@ def test_clear_heart_sounds_without_periodicity_stay_usable_even_with_hum():
     assert score >= QualityConfig().usable_threshold
     assert any("periodicity" in r for r in reasons)  # still named as a reason
     assert _score(m, QualityConfig(periodicity_floor=0.4))[0] == pytest.approx(10 / 12 * 0.4 * 0.9)
+
+
+def test_heart_sounds_ten_db_over_the_floor_are_usable_and_noise_is_not():
+    # Hand computed: contrast 10 dB ramps to (10 - 6) / (18 - 6) = 0.333 with full
+    # periodicity, usable at the threshold of 0.28 (at 0.35 such windows were skipped
+    # although the segmenter reads them). Band-limited white noise alone measures about
+    # 4.6 dB of contrast and 0.1 of periodicity: score 0, unusable.
+    from eddyphone.quality import QualityMeasures, _score
+
+    heart = QualityMeasures(10.0, 0.6, 0.0, 0.0, None)
+    assert _score(heart, QualityConfig())[0] == pytest.approx(1 / 3)
+    assert _score(heart, QualityConfig())[0] >= QualityConfig().usable_threshold
+    noise = QualityMeasures(4.6, 0.1, 0.0, 0.0, None)
+    assert _score(noise, QualityConfig())[0] < QualityConfig().usable_threshold
 
 
 def test_clipped_but_clear_heart_sounds_stay_usable():
