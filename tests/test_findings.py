@@ -580,3 +580,20 @@ def test_pitch_text_never_contradicts_the_printed_frequency():
         assert f"{pitch}-pitched (dominant {f:.0f} Hz)" in text
     text = _murmur_record(pitch="high", dominant_frequency_hz=250.0).describe()
     assert "high-pitched by its rise over the noise floor" in text and "read medium" in text
+
+
+def test_level_murmur_missing_one_edge_bin_still_fills_the_window():
+    # Common practice: a murmur of level loudness from S1 to S2 is holosystolic. A
+    # time course within 2 dB of its peak in every bin, whose active run (found on
+    # the longer frames) starts one bin after the window opens or ends one bin
+    # before it closes, reaches the window's edges.
+    from eddyphone.findings.murmur import _extent
+
+    flat = 10.0 ** (-np.array([2.0, 2, 2, 1, 1, 2, 1, 1, 2, 0, 0, 0]) / 10.0)
+    assert _extent(flat, 1, 12, 15.0) == (0.0, 1.0)
+    assert _extent(flat, 0, 11, 15.0) == (0.0, 1.0)
+    assert timing_word(*_extent(flat, 1, 11, 15.0)) == "holo"
+    # an edge bin 20 dB down is not part of it
+    dipped = flat.copy()
+    dipped[0] = 0.01
+    assert _extent(dipped, 1, 12, 15.0)[0] > 0.0

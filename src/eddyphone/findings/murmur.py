@@ -322,7 +322,9 @@ class MurmurSearch:
 def _extent(profile: np.ndarray, k0: int, k1: int, extent_db: float) -> tuple[float, float]:
     """Onset and end (fractions of the window) of the murmur in ``profile[k0:k1]``:
     where it crosses ``extent_db`` below its peak, interpolated between bin centres
-    (in dB; past the active run the profile is the noise-subtracted excess)."""
+    (in dB; past the active run the profile is the noise-subtracted excess). A run
+    starting (ending) one bin from the window's edge reaches the edge when that bin
+    is within ``extent_db`` of the peak."""
     n = len(profile)
     if not profile[k0:k1].max() > 0:
         return k0 / n, k1 / n
@@ -330,6 +332,13 @@ def _extent(profile: np.ndarray, k0: int, k1: int, extent_db: float) -> tuple[fl
     thr = -float(extent_db)
     inside = [k for k in range(k0, k1) if p_db[k] >= thr]
     a, b = inside[0], inside[-1]
+    # one bin short of the window's edge, with that edge bin still within extent_db of
+    # the peak: the murmur is there when the window opens (or still there when it
+    # closes); the long-frame activity test missed that bin, the time course shows it
+    if a == 1 and p_db[0] >= thr:
+        a = 0
+    if b == n - 2 and p_db[n - 1] >= thr:
+        b = n - 1
 
     def cross(k_in: int, k_out: int) -> float:
         if not 0 <= k_out < n:
