@@ -597,3 +597,19 @@ def test_level_murmur_missing_one_edge_bin_still_fills_the_window():
     dipped = flat.copy()
     dipped[0] = 0.01
     assert _extent(dipped, 1, 12, 15.0)[0] > 0.0
+
+
+@pytest.mark.parametrize("draw,case_seed,sound", [(2, 200390, "click"), (4, 400078, "S4")])
+def test_murmur_sharing_its_window_with_a_short_sound_is_found(draw, case_seed, sound):
+    # A benchmark recording whose murmur (carried by the recording, simulator truth)
+    # shares its window with a louder short sound (an ejection click, an S4): the
+    # short sound is set aside and the murmur beside it is still found, in the
+    # truth's phase.
+    from eddyphone.simulate import benchmark_specs
+
+    spec = next(s for s in benchmark_specs(600, seed=draw) if s.seed == case_seed)
+    sim, f = _findings(spec)
+    truth = sim.truth["murmur"]
+    assert truth["audible_in_recording"] and sound in {lab for _, _, lab in sim.events}
+    assert f.presence == "present", f.presence_reason
+    assert f.main().phase == truth["phase"]

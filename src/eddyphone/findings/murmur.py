@@ -397,6 +397,30 @@ class _Candidate:
     peak_db: float
 
 
+def _judge_run(M: np.ndarray, w: int, bands: list[int], s: int, e: int, bin_s: float,
+               dur_s: np.ndarray, cfg: FindingsConfig) -> tuple[_Candidate | None, float, bool,
+                                                             np.ndarray]:
+    """A run of active bins judged as a murmur: the candidate (or None when it is a
+    transient), how long it stays within 6 dB of its peak, whether it lies below
+    150 Hz only, and its excess in dB averaged over its bands."""
+    # bands that carry it (within 15 dB of its strongest band); nothing above
+    # 150 Hz means it sounds like S3, S4 or a sound tail
+    peak_b = M[w][bands][:, s:e].max(axis=1)
+    bands = [b for b, pk in zip(bands, peak_b) if pk >= peak_b.max() - 15.0]
+    # how long it stays within 6 dB of its peak, on its excess in dB averaged
+    # over those bands (a power sum lets one loud band and bin, such as a heart
+    # sound's tail at the window's edge, make a long murmur look short)
+    mdb = M[w][bands][:, s:e].mean(axis=0)
+    sustained_s = int(np.sum(mdb >= mdb.max() - 6.0)) * bin_s
+    low_only = max(bands) <= 1
+    need = (min(cfg.min_low_murmur_s, 0.5 * dur_s[w]) if low_only
+            else min(cfg.min_sustained_s, 0.25 * dur_s[w]))
+    if sustained_s < need:
+        return None, sustained_s, low_only, mdb
+    return (_Candidate(w, tuple(bands), s, e, float(M[w][bands][:, s:e].max())),
+            sustained_s, low_only, mdb)
+
+
 def _candidates(M: np.ndarray, active: np.ndarray, X: np.ndarray, dur_s: np.ndarray,
                 cfg: FindingsConfig, rejected: list[str]) -> list[_Candidate]:
     n_bins = M.shape[2]
@@ -416,26 +440,28 @@ def _candidates(M: np.ndarray, active: np.ndarray, X: np.ndarray, dur_s: np.ndar
         s, e = max(runs, key=lambda r: (X[w, r[0]:r[1]].sum(), r[1] - r[0]))
         bin_s = dur_s[w] / n_bins
         # absolute durations, shortened in short windows (fast rates)
-        if e - s < 2 or (e - s) * bin_s < min(cfg.min_murmur_s, 0.4 * dur_s[w]):
+        shortest = min(cfg.min_murmur_s, 0.4 * dur_s[w])
+        if e - s < 2 or (e - s) * bin_s < shortest:
             continue
-        # bands that carry it (within 15 dB of its strongest band); nothing above
-        # 150 Hz means it sounds like S3, S4 or a sound tail
-        peak_b = M[w][bands][:, s:e].max(axis=1)
-        bands = [b for b, pk in zip(bands, peak_b) if pk >= peak_b.max() - 15.0]
-        # how long it stays within 6 dB of its peak, on its excess in dB averaged
-        # over those bands (a power sum lets one loud band and bin, such as a heart
-        # sound's tail at the window's edge, make a long murmur look short)
-        mdb = M[w][bands][:, s:e].mean(axis=0)
-        sustained_s = int(np.sum(mdb >= mdb.max() - 6.0)) * bin_s
-        low_only = max(bands) <= 1
-        need = (min(cfg.min_low_murmur_s, 0.5 * dur_s[w]) if low_only
-                else min(cfg.min_sustained_s, 0.25 * dur_s[w]))
-        if sustained_s < need:
+        cand, sustained_s, low_only, mdb = _judge_run(M, w, bands, s, e, bin_s, dur_s, cfg)
+        if cand is None:
+            # the run's loudest part is a transient (an S3, S4, click or snap in the
+            # same window as a murmur): set it aside with a bin on each side and
+            # judge what is left of the run on its own
+            loud = np.flatnonzero(mdb >= mdb.max() - 6.0)
+            a0, a1 = s + max(int(loud[0]) - 1, 0), s + min(int(loud[-1]) + 2, e - s)
+            pieces = [(p0, p1) for p0, p1 in ((s, a0), (a1, e))
+                      if p1 - p0 >= 2 and (p1 - p0) * bin_s >= shortest]
+            for p0, p1 in sorted(pieces, key=lambda r: -X[w, r[0]:r[1]].sum()):
+                cand = _judge_run(M, w, bands, p0, p1, bin_s, dur_s, cfg)[0]
+                if cand is not None:
+                    break
+        if cand is None:
             rejected.append(f"a short {'low-pitched ' if low_only else ''}{PHASES[w]} "
                             f"transient ({sustained_s * 1000:.0f} ms within 6 dB of its "
                             "peak) is not counted as a murmur")
             continue
-        out.append(_Candidate(w, tuple(bands), s, e, float(M[w][bands][:, s:e].max())))
+        out.append(cand)
     return out
 
 
