@@ -214,3 +214,22 @@ def test_heart_rate_reads_the_same_in_summary_and_rhythm_section():
     summary["heart_rate_bpm"] = 80.6
     assert dict(text.headline(analysis))["Heart rate"] == "81 bpm"
     assert text.rhythm_lines(analysis)[0].startswith("Heart rate 81 bpm ")
+
+
+def test_report_pitch_row_explains_a_word_the_printed_frequency_would_not_give():
+    # Common-practice edges (from memory): under about 150 Hz low, from about 300 Hz
+    # high. A murmur called low from its rise over the noise floor whose recorded
+    # dominant frequency is 188 Hz must not print "low: dominant 188 Hz" in the report's
+    # measures table or the patient view, a reading a clinician takes for a mistake.
+    from eddyphone.findings.records import GRADE_NOTE, Murmur
+    from eddyphone.report.text import murmur_table
+
+    m = Murmur(id="m1", phase="diastolic", presence="present", confidence=0.9,
+               timing="early", timing_confidence=0.8, shape="decrescendo",
+               shape_confidence=0.7, pitch="low", dominant_frequency_hz=188.0,
+               centroid_hz=200.0, quality_words=("blowing",), consistency=0.9,
+               grade_range=(1, 1), grade_note=GRADE_NOTE, level_db_re_heart_sounds=-18.0,
+               peak_fraction=0.1, beats_with_murmur=14, beats_used=15, profile=(1.0, 0.3))
+    pitch = dict(murmur_table(m))["Pitch"]
+    assert "would read medium" in pitch and "188 Hz" in pitch
+    assert not pitch.startswith("low: dominant")

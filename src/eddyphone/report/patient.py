@@ -117,7 +117,7 @@ def site_rows(analyses: Sequence[Any], out_dir: Path | None = None
             a.recording.site or "—", a.recording.stem,
             f"{s['heart_rate_bpm']:.0f}" if text.finite_positive(s.get("heart_rate_bpm")) else "—",
             s.get("rhythm") or "—", _murmur_short(a),
-            f"{m.pitch} ({m.dominant_frequency_hz:.0f} Hz)" if m else "—",
+            m.pitch_text if m else "—",
             f"{m.level_db_re_heart_sounds:+.1f}" if m else "—",
             f"{m.beats_with_murmur}/{m.beats_used}" if m else "—",
             top.label if top is not None else "—",

@@ -108,8 +108,7 @@ def murmur_table(murmur: Any) -> list[tuple[str, str]]:
         ("Phase", f"{m.phase} ({m.presence}, confidence {m.confidence:.2f})"),
         ("Timing", f"{m.timing} (confidence {m.timing_confidence:.2f})"),
         ("Shape", f"{m.shape} (confidence {m.shape_confidence:.2f})"),
-        ("Pitch", f"{m.pitch}: dominant {m.dominant_frequency_hz:.0f} Hz, "
-                  f"centroid {m.centroid_hz:.0f} Hz"),
+        ("Pitch", f"{m.pitch_text}; centroid {m.centroid_hz:.0f} Hz"),
         ("Quality", ", ".join(m.quality_words) or "—"),
         ("Grade range", f"{_grade(m)} of VI"),
         ("Level", f"{m.level_db_re_heart_sounds:+.1f} dB relative to S1/S2"),
