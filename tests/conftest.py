@@ -28,3 +28,17 @@ def burst_train(duration_s: float = 8.0, fs: float = 4000.0, *, rr_s: float = 0.
 @pytest.fixture
 def heart_like() -> np.ndarray:
     return burst_train()
+
+
+def murmur_record(**kw):
+    """A murmur record with plausible values; keyword arguments override them."""
+    from eddyphone.findings.records import GRADE_NOTE, Murmur
+
+    base = dict(id="m1", phase="diastolic", presence="present", confidence=0.9,
+                timing="early", timing_confidence=0.8, shape="decrescendo",
+                shape_confidence=0.7, pitch="low", dominant_frequency_hz=188.0,
+                centroid_hz=200.0, quality_words=("blowing",), consistency=0.9,
+                grade_range=(1, 1), grade_note=GRADE_NOTE, level_db_re_heart_sounds=-18.0,
+                peak_fraction=0.1, beats_with_murmur=14, beats_used=15, profile=(1.0, 0.3))
+    base.update(kw)
+    return Murmur(**base)

@@ -12,6 +12,7 @@ import json
 import librosa
 import numpy as np
 import pytest
+from conftest import murmur_record
 from scipy import signal
 
 from eddyphone import physiology
@@ -504,7 +505,6 @@ def test_long_ejection_murmur_is_mid_systolic_not_holosystolic():
             assert m.timing == word, (cause, seed, m.timing)
 
 
-
 @pytest.mark.parametrize("draw,case_seed", [(2, 200094), (2, 200348), (1, 100336)])
 def test_ejection_murmur_swelling_and_fading_within_systole_is_mid_systolic(draw, case_seed):
     # Common practice: a regurgitant (holosystolic) murmur keeps its intensity from S1
@@ -553,32 +553,19 @@ def test_ragged_excess_with_weak_paired_evidence_is_not_present():
     assert f.presence != "present", f.presence_reason
 
 
-def _murmur_record(**kw):
-    from eddyphone.findings.records import GRADE_NOTE, Murmur
-
-    base = dict(id="m1", phase="diastolic", presence="present", confidence=0.9,
-                timing="early", timing_confidence=0.8, shape="decrescendo",
-                shape_confidence=0.7, pitch="low", dominant_frequency_hz=188.0,
-                centroid_hz=200.0, quality_words=("blowing",), consistency=0.9,
-                grade_range=(1, 1), grade_note=GRADE_NOTE, level_db_re_heart_sounds=-18.0,
-                peak_fraction=0.1, beats_with_murmur=14, beats_used=15, profile=(1.0, 0.3))
-    base.update(kw)
-    return Murmur(**base)
-
-
 def test_pitch_text_never_contradicts_the_printed_frequency():
     # common-practice edges, from memory: below ~150 Hz low, from ~300 Hz high; a
     # clinician reads the printed Hz on those edges, so a word from the noise-relative
     # measure that differs from them is explained, not set beside a number that
     # seems to say otherwise
     lo, hi = PITCH_BOUNDARIES_HZ
-    text = _murmur_record(pitch="low", dominant_frequency_hz=188.0).describe()
+    text = murmur_record(pitch="low", dominant_frequency_hz=188.0).describe()
     assert "low-pitched (dominant" not in text
     assert "would read medium" in text and "188 Hz" in text
     for pitch, f in (("low", lo - 1.0), ("medium", lo), ("medium", hi - 1.0), ("high", hi)):
-        text = _murmur_record(pitch=pitch, dominant_frequency_hz=f).describe()
+        text = murmur_record(pitch=pitch, dominant_frequency_hz=f).describe()
         assert f"{pitch}-pitched (dominant {f:.0f} Hz)" in text
-    text = _murmur_record(pitch="high", dominant_frequency_hz=250.0).describe()
+    text = murmur_record(pitch="high", dominant_frequency_hz=250.0).describe()
     assert "high-pitched by its rise over the noise floor" in text and "read medium" in text
 
 

@@ -14,6 +14,7 @@ import numpy as np
 import pytest
 import soundfile as sf
 from _report_data import MURMUR_CASE
+from conftest import murmur_record
 
 import eddyphone
 from eddyphone.cautions import GENERAL_CAUTIONS
@@ -221,15 +222,9 @@ def test_report_pitch_row_explains_a_word_the_printed_frequency_would_not_give()
     # high. A murmur called low from its rise over the noise floor whose recorded
     # dominant frequency is 188 Hz must not print "low: dominant 188 Hz" in the report's
     # measures table or the patient view, a reading a clinician takes for a mistake.
-    from eddyphone.findings.records import GRADE_NOTE, Murmur
     from eddyphone.report.text import murmur_table
 
-    m = Murmur(id="m1", phase="diastolic", presence="present", confidence=0.9,
-               timing="early", timing_confidence=0.8, shape="decrescendo",
-               shape_confidence=0.7, pitch="low", dominant_frequency_hz=188.0,
-               centroid_hz=200.0, quality_words=("blowing",), consistency=0.9,
-               grade_range=(1, 1), grade_note=GRADE_NOTE, level_db_re_heart_sounds=-18.0,
-               peak_fraction=0.1, beats_with_murmur=14, beats_used=15, profile=(1.0, 0.3))
+    m = murmur_record(pitch="low", dominant_frequency_hz=188.0)
     pitch = dict(murmur_table(m))["Pitch"]
     assert "would read medium" in pitch and "188 Hz" in pitch
     assert not pitch.startswith("low: dominant")
