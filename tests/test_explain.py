@@ -423,3 +423,12 @@ def test_diastolic_rumble_reads_as_inflow_and_blowing_decrescendo_as_leak():
                   quality_words=("blowing",), dominant_frequency_hz=190.0)
     assert murmur_pattern(rumble) == "inflow"
     assert murmur_pattern(leak) == "leak"
+    # called low from its rise over the noise floor, but recorded at 188 Hz (medium on
+    # the common-practice edges of 150 and 300 Hz, from memory): blowing and early
+    # decrescendo make it a leak, not an inflow rumble
+    low_by_floor = murmur(phase="diastolic", timing="early", shape="decrescendo",
+                          pitch="low", quality_words=("blowing",), dominant_frequency_hz=188.0)
+    assert murmur_pattern(low_by_floor) == "leak"
+    low_recorded = murmur(phase="diastolic", timing="early", shape="decrescendo",
+                          pitch="low", quality_words=("blowing",), dominant_frequency_hz=110.0)
+    assert murmur_pattern(low_recorded) == "inflow"

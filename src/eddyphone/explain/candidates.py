@@ -22,6 +22,7 @@ import numpy as np
 
 from eddyphone.explain.config import ExplainConfig
 from eddyphone.explain.numbers import Basis, flow_noise_ceiling_hz, levers
+from eddyphone.findings.config import PITCH_BOUNDARIES_HZ
 
 #: Candidate mechanisms in their fixed order.
 MECHANISMS = ("high_flow", "narrowed_orifice", "low_viscosity", "wall_irregularity",
@@ -65,16 +66,20 @@ def murmur_pattern(murmur: object) -> str:
     low-pitched rumbling diastolic murmur or one with a presystolic accent) or
     ``'shunt'`` (continuous). Common practice: a regurgitant diastolic leak is a
     high- or medium-pitched blowing decrescendo; a narrowed inflow valve gives a
-    low-pitched rumble that swells again before S1.
+    low-pitched rumble that swells again before S1. A murmur called low from its rise
+    over the noise floor but whose recorded dominant frequency reads medium or high
+    on the common-practice edges (:data:`~eddyphone.findings.config.PITCH_BOUNDARIES_HZ`)
+    is no rumble on its pitch alone.
     """
     phase, timing, shape = murmur.phase, murmur.timing, murmur.shape
     if phase == "continuous":
         return "shunt"
     if phase == "systolic":
         return "leak" if timing == "holo" or shape == "plateau" else "outflow"
+    dominant = getattr(murmur, "dominant_frequency_hz", float("nan"))
+    low = getattr(murmur, "pitch", None) == "low" and not dominant >= PITCH_BOUNDARIES_HZ[0]
     rumble = ("rumbling" in tuple(getattr(murmur, "quality_words", ()) or ())
-              or bool(getattr(murmur, "presystolic_accent", False))
-              or getattr(murmur, "pitch", None) == "low")
+              or bool(getattr(murmur, "presystolic_accent", False)) or low)
     if not rumble and shape == "decrescendo" and timing in ("early", "holo"):
         return "leak"
     return "inflow"
