@@ -214,19 +214,17 @@ def speed() -> None:
         rec = eddyphone.io.load(path)
         cond = condition(rec.x, rec.fs, config.condition)
 
-        def quality():
+        def quality(r=rec, c=cond):
             # As eddyphone.analyze runs it: the hum conditioning found is passed on.
-            known_hum = cond.hum_hz if config.condition.remove_hum else "detect"
-            return assess(rec.x, rec.fs, config.quality, hum_hz=known_hum)
+            known_hum = c.hum_hz if config.condition.remove_hum else "detect"
+            return assess(r.x, r.fs, config.quality, hum_hz=known_hum)
 
         qual = quality()
 
         def whole_path():
             r = eddyphone.io.load(path)
             c = condition(r.x, r.fs, config.condition)
-            q = assess(r.x, r.fs, config.quality,
-                       hum_hz=c.hum_hz if config.condition.remove_hum else "detect")
-            segment(c.x, c.fs, quality=q)
+            segment(c.x, c.fs, quality=quality(r, c))
 
         # Baseline and the whole path timed in alternation, so both see the same state
         # of a shared, noisy machine (timed one after the other, the baseline alone

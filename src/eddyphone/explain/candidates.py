@@ -22,7 +22,7 @@ import numpy as np
 
 from eddyphone.explain.config import ExplainConfig
 from eddyphone.explain.numbers import Basis, flow_noise_ceiling_hz, levers
-from eddyphone.findings.config import PITCH_BOUNDARIES_HZ
+from eddyphone.findings.config import pitch_word
 
 #: Candidate mechanisms in their fixed order.
 MECHANISMS = ("high_flow", "narrowed_orifice", "low_viscosity", "wall_irregularity",
@@ -77,7 +77,8 @@ def murmur_pattern(murmur: object) -> str:
     if phase == "systolic":
         return "leak" if timing == "holo" or shape == "plateau" else "outflow"
     dominant = getattr(murmur, "dominant_frequency_hz", float("nan"))
-    low = getattr(murmur, "pitch", None) == "low" and not dominant >= PITCH_BOUNDARIES_HZ[0]
+    low = getattr(murmur, "pitch", None) == "low" and (math.isnan(dominant)
+                                                       or pitch_word(dominant) == "low")
     rumble = ("rumbling" in tuple(getattr(murmur, "quality_words", ()) or ())
               or bool(getattr(murmur, "presystolic_accent", False)) or low)
     if not rumble and shape == "decrescendo" and timing in ("early", "holo"):

@@ -83,7 +83,7 @@ def described_murmur(*, phase: str, timing: str, shape: str, dominant_frequency_
         Kinds of companion sounds (S3, S4, split_S2, ejection_click, opening_snap).
     """
     from eddyphone.findings import ExtraSound, Findings, Murmur
-    from eddyphone.findings.config import PITCH_BOUNDARIES_HZ
+    from eddyphone.findings.config import pitch_word
     from eddyphone.findings.records import GRADE_NOTE
 
     for name, value, allowed in (("phase", phase, _PHASES), ("timing", timing, _TIMINGS),
@@ -106,8 +106,7 @@ def described_murmur(*, phase: str, timing: str, shape: str, dominant_frequency_
     if not 0.0 <= peak_fraction <= 1.0:
         raise ParameterError(f"peak fraction {peak_fraction!r} must lie in 0-1")
     f = float(dominant_frequency_hz)
-    low, high = PITCH_BOUNDARIES_HZ
-    pitch = "low" if f < low else "high" if f >= high else "medium"
+    pitch = pitch_word(f)
     m = Murmur(id="m1", phase=phase, presence="present", confidence=1.0, timing=timing,
                timing_confidence=1.0, shape=shape, shape_confidence=1.0, pitch=pitch,
                dominant_frequency_hz=f, centroid_hz=f, quality_words=words, consistency=1.0,

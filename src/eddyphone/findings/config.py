@@ -9,6 +9,7 @@ Public names
 FindingsConfig
 PITCH_BOUNDARIES_HZ, PITCH_BOUNDARIES_RE_NOISE_HZ, ANALYSIS_BANDS_HZ, TIMING_THIRDS,
 GRADE_ANCHORS_DB
+pitch_word(frequency_hz, boundaries_hz=PITCH_BOUNDARIES_HZ) -> str
 """
 
 from __future__ import annotations
@@ -23,6 +24,23 @@ from eddyphone.errors import ParameterError
 #: Common practice, from memory (clinical auscultation texts place the bell's range
 #: below about 150 Hz and high-pitched murmurs above about 300 Hz).
 PITCH_BOUNDARIES_HZ = (150.0, 300.0)
+
+
+def pitch_word(frequency_hz: float, boundaries_hz: tuple[float, float] = PITCH_BOUNDARIES_HZ
+               ) -> str:
+    """'low', 'medium' or 'high' from a frequency and the two pitch edges (by default
+    :data:`PITCH_BOUNDARIES_HZ`).
+
+    Examples
+    --------
+    >>> pitch_word(90.0), pitch_word(200.0), pitch_word(450.0)
+    ('low', 'medium', 'high')
+    """
+    lo, hi = boundaries_hz
+    if frequency_hz < lo:
+        return "low"
+    return "medium" if frequency_hz < hi else "high"
+
 
 #: Pitch classes from where the murmur stands out of the recording's own noise floor
 #: (``murmur.noise_relative_centroid_hz``, Hz): low below the first edge, high from

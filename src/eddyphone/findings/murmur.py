@@ -53,6 +53,7 @@ from eddyphone.findings.config import (
     PITCH_BOUNDARIES_HZ,
     PITCH_BOUNDARIES_RE_NOISE_HZ,
     FindingsConfig,
+    pitch_word,
 )
 from eddyphone.findings.grade import grade_range
 from eddyphone.findings.measures import DIA, SYS, Profiles, Spectrogram
@@ -233,22 +234,6 @@ def _peak_position(p_db: np.ndarray, x: np.ndarray, k: int) -> float:
         step = x[k + 1] - x[k] if d > 0 else x[k] - x[k - 1]
         return float(x[k] + d * step)
     return float(x[k])
-
-
-def pitch_word(centroid_hz: float, boundaries_hz: tuple[float, float] = PITCH_BOUNDARIES_HZ
-               ) -> str:
-    """'low', 'medium' or 'high' from the murmur's spectral centroid (see
-    :data:`~eddyphone.findings.config.PITCH_BOUNDARIES_HZ`).
-
-    Examples
-    --------
-    >>> pitch_word(90.0), pitch_word(200.0), pitch_word(450.0)
-    ('low', 'medium', 'high')
-    """
-    lo, hi = boundaries_hz
-    if centroid_hz < lo:
-        return "low"
-    return "medium" if centroid_hz < hi else "high"
 
 
 def quality_words(*, pitch: str, tonality: float, relative_spread: float, roughness: float,

@@ -16,7 +16,7 @@ from collections.abc import Mapping
 from dataclasses import dataclass, field
 from typing import Any
 
-from eddyphone.findings.config import PITCH_BOUNDARIES_HZ
+from eddyphone.findings.config import pitch_word
 
 #: Roman numerals of the six-grade intensity scale (Levine scale, common practice).
 GRADE_NAMES = ("I", "II", "III", "IV", "V", "VI")
@@ -130,8 +130,7 @@ class Murmur:
         f = self.dominant_frequency_hz
         if math.isnan(f):
             return f"{self.pitch}-pitched"
-        lo, hi = PITCH_BOUNDARIES_HZ
-        plain = "low" if f < lo else ("medium" if f < hi else "high")
+        plain = pitch_word(f)
         if plain == self.pitch:
             return f"{self.pitch}-pitched (dominant {f:.0f} Hz)"
         return (f"{self.pitch}-pitched by its rise over the noise floor (the recorded "
