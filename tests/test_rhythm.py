@@ -228,13 +228,19 @@ def test_regular_rhythm_with_many_missed_beats_is_not_irregular():
     assert r_af.heart_rate_bpm == pytest.approx(60.0 / rr_af.mean())
 
 
-def test_regular_rate_keeps_intervals_within_twenty_percent_of_the_median():
-    # The 20 % rule of heart-rate-variability analysis (normal-to-normal intervals;
-    # common practice, from memory). Hand count: 20 intervals of 0.8 s, a premature
-    # beat (0.5 s) with its pause (1.1 s), and three odd short intervals (0.55, 0.6 and
-    # 0.62 s: sounds misplaced at the edges of the recording): only the 0.8-s
-    # intervals lie within 0.64-0.96 s, so the rate is 75 bpm. A 10 % trimmed mean of
-    # the same 25 intervals keeps the 0.6 and 0.62 and reads 76.7 bpm.
-    v = np.concatenate([np.full(20, 0.8), [0.5, 1.1, 0.55, 0.6, 0.62]])
-    assert 60.0 / regular_rate_interval(v) == pytest.approx(75.0)
-    assert 60.0 / trimmed_mean(v, 0.1) == pytest.approx(76.7, abs=0.1)
+def test_regular_rate_keeps_interval_pairs_that_add_up_to_two_medians():
+    # Hand count at a fast rate: 21 intervals of 0.35 s, two premature beats (0.29 s)
+    # each with its compensatory pause (0.45 s), one S1 placed 60 ms late (0.41 s then
+    # 0.29 s) and an odd 0.25-s interval a sound at the recording's end left. The
+    # true rate is the mean of the 27 real intervals, (21 * 0.35 + 2 * 0.74 + 0.70) /
+    # 27 = 0.3530 s, 170.0 bpm: the real pairs add up to two medians (0.70 s) within
+    # 20 % of one (the normal-to-normal band of heart-rate-variability analysis,
+    # common practice, from memory), the odd interval with neither neighbour (0.60 s).
+    # Keeping each interval within 20 % of the median instead keeps the short
+    # intervals (0.29 s) and drops the pauses (0.45 s): 173.8 bpm.
+    v = np.concatenate([np.full(8, 0.35), [0.29, 0.45], np.full(6, 0.35), [0.41, 0.29],
+                        np.full(6, 0.35), [0.29, 0.45, 0.35], [0.25]])
+    assert 60.0 / v[:-1].mean() == pytest.approx(170.0, abs=0.05)
+    assert 60.0 / regular_rate_interval(v) == pytest.approx(170.0, abs=0.1)
+    single = v[np.abs(v - 0.35) <= 0.2 * 0.35]
+    assert 60.0 / single.mean() == pytest.approx(173.8, abs=0.05)
