@@ -600,3 +600,42 @@ def test_murmur_sharing_its_window_with_a_short_sound_is_found(draw, case_seed, 
     assert truth["audible_in_recording"] and sound in {lab for _, _, lab in sim.events}
     assert f.presence == "present", f.presence_reason
     assert f.main().phase == truth["phase"]
+
+
+def test_time_course_is_not_flattened_by_a_few_noisy_beats():
+    # A murmur's time course is averaged over beats like its detection: each beat in
+    # units of its own quiet level, the interquartile mean over beats (a quarter of
+    # the beats trimmed at each end). Reference: the hand-computed mean of the murmur
+    # band, whose beats all carry the same swell (ratio 1 + 10 * bump), while a
+    # quarter of the beats hold a breath-like burst 300 times the quiet level in
+    # another band of the same window: the bursts are trimmed away, and the shape
+    # word is crescendo-decrescendo (common practice: swelling and fading).
+    from eddyphone.findings.murmur import _snr_profile
+
+    n_beats, n_bins = 12, 12
+    bump = np.sin(np.pi * (np.arange(n_bins) + 0.5) / n_bins) ** 4
+    ratio = np.ones((n_beats, 2, n_bins))
+    ratio[:, 0] += 10.0 * bump
+    ratio[:3, 1] = 300.0
+    prof = _snr_profile(ratio, np.ones(2), [0, 1])
+    assert np.allclose(prof, 10.0 * bump)
+    db = 10.0 * np.log10(np.maximum(prof / prof.max(), 1e-6))
+    assert shape_word(db)[0] == "crescendo-decrescendo"
+
+
+def test_ejection_murmur_behind_a_tilted_chest_piece_with_breathing_keeps_its_swell():
+    # A benchmark recording (simulator truth: an ejection murmur through a narrowed
+    # outflow valve, measured on its clean envelope as mid-systolic and
+    # crescendo-decrescendo) behind the steeply tilted chest piece with loud
+    # breathing: the murmur's time course is not flattened by the breathing beats
+    # into a holosystolic plateau.
+    from eddyphone.simulate import benchmark_specs
+
+    spec = next(s for s in benchmark_specs(600, seed=2) if s.seed == 200360)
+    sim, f = _findings(spec)
+    truth = sim.truth["murmur"]["measured"]
+    assert (truth["timing"], truth["shape"]) == ("mid", "crescendo-decrescendo")
+    assert spec.device == "steep_tilt" and spec.breathing > 0.5
+    m = f.main()
+    assert m is not None and m.phase == "systolic", f.presence_reason
+    assert (m.timing, m.shape) == ("mid", "crescendo-decrescendo")

@@ -563,14 +563,17 @@ def _roughness(spec: Spectrogram, prof: Profiles, use: np.ndarray, w: int, k0: i
     return float(np.median(vals))
 
 
-def _snr_profile(power: np.ndarray, noise: np.ndarray, bands: list[int]) -> np.ndarray:
-    """Beat-averaged time profile of a murmur from per-beat band powers
-    ``power`` (beats, bands, bins) over each beat's noise level ``noise`` (beats,
-    bands): the excess in each of ``bands`` in units of that band's typical noise,
-    summed over the bands (15 % trimmed mean over beats)."""
-    typical = np.maximum(np.median(noise, axis=0), 1e-30)
-    exc = np.clip(power[:, bands] - noise[:, bands, None], 0.0, None)
-    return trimmed_mean((exc / typical[bands][None, :, None]).sum(axis=1), 0.15)
+def _snr_profile(ratio: np.ndarray, ref: np.ndarray, bands: list[int]) -> np.ndarray:
+    """Beat-averaged time profile of a murmur from per-beat band powers relative to
+    each beat's own quiet level, ``ratio`` (beats, bands, bins): their interquartile
+    mean over beats (:data:`TRIM`), re-referenced to the recording's quiet level
+    ``ref`` (bands), and the excess over it summed over ``bands``. Each band counts
+    in units of its own noise floor and each beat in units of its own, so neither a
+    tilted device's loudest band nor a few noisy beats (a breath, friction, speech,
+    where the same floor fluctuation is many times a quiet beat's floor) stand for
+    the murmur's time course."""
+    a = trimmed_mean(ratio, TRIM) / np.maximum(ref, 1e-30)[:, None]
+    return np.clip(a[list(bands)] - 1.0, 0.0, None).sum(axis=0)
 
 
 def _jaggedness_db(m_db: np.ndarray) -> float:
@@ -650,8 +653,7 @@ def find_murmurs(spec: Spectrogram, prof: Profiles, config: FindingsConfig,
     ref_rec = _recording_reference(A)
     if time_prof is None or not np.array_equal(time_prof.beat_index, prof.beat_index):
         time_prof, time_frame_s = prof, frame_s
-    noise_t = time_prof.reference * _recording_reference(
-        trimmed_mean(time_prof.ratio, TRIM))[None, :]
+    ref_t = _recording_reference(trimmed_mean(time_prof.ratio, TRIM))
     M = 10.0 * np.log10(np.maximum(A / ref_rec[None, :, None], 1e-12))
     noise_abs = np.median(prof.reference, axis=0) * ref_rec  # typical noise power per band
     X = np.sum(noise_abs[None, :, None] * np.clip(A / ref_rec[None, :, None] - 1.0, 0, None),
@@ -764,8 +766,9 @@ def find_murmurs(spec: Spectrogram, prof: Profiles, config: FindingsConfig,
         use = shows if shows.sum() >= 2 else np.ones(n_beats, dtype=bool)
         prof_w = trimmed_mean(excess_beats[use][:, c.window], 0.15)
         # time course for timing and shape: the murmur's bands, each counted by how
-        # far it stands over its own noise floor (device-independent)
-        prof_snr = _snr_profile(time_prof.power[use][:, c.window], noise_t[use], bands)
+        # far it stands over its own noise floor (device-independent), each beat
+        # over its own (a few noisy beats do not flatten it)
+        prof_snr = _snr_profile(time_prof.ratio[use][:, c.window], ref_t, bands)
         full = prof_snr / max(prof_snr.max(), 1e-30)
         # (a faint murmur's active run may stop short of S2 while its profile still
         # runs on to it: the profile decides)
