@@ -92,6 +92,15 @@ class SegmentConfig:
         median RR (then the beat is more likely real and weak).
     emission_model : str or None
         Path of an emission model JSON; None uses the shipped model.
+    missed_sound_cost : float
+        Competing rates are scored by the mean frame log-likelihood of their decoding
+        less this times the fraction of its systoles and diastoles that hold a sound
+        it left unlabelled (half the true rate leaves whole S1-S2 pairs there; a
+        murmur or an S3 leaves less).
+    half_rate_margin : float
+        A decoding that looks like one sound per beat read as S1 + S2 (see
+        ``halving.looks_halved``) gives way to the doubled rate unless that scores
+        more than this below it (same score, per frame).
     """
 
     feature_fs: float = 50.0
@@ -114,6 +123,8 @@ class SegmentConfig:
     doubtful_beat_margin: float = 0.15
     doubtful_beat_max_merged_rr: float = 1.6
     emission_model: str | None = None
+    missed_sound_cost: float = 0.3
+    half_rate_margin: float = 0.15
 
     def __post_init__(self) -> None:
         if not 10.0 <= self.feature_fs <= 500.0:
@@ -321,6 +332,13 @@ def _missed_fraction(starts: np.ndarray, ends: np.ndarray, states: np.ndarray,
     return hits / gaps if gaps else 0.0
 
 
+def _reading_score(score: float, path, sound: np.ndarray, missed_cost: float) -> float:
+    """How well a decoded reading explains its frames: the mean frame log-likelihood
+    (``score`` over ``len(sound)`` frames) less ``missed_cost`` times the fraction of
+    its systoles and diastoles that hold a sound it left unlabelled."""
+    return score / len(sound) - missed_cost * _missed_fraction(*path, sound)
+
+
 def _too_even(starts: np.ndarray, states: np.ndarray, ffs: float) -> bool:
     """True when "S1" and "S2" are evenly spaced although the rate says they should not be.
 
@@ -403,11 +421,11 @@ def _decode_chunk(loglik: np.ndarray, homo: np.ndarray, tilt: np.ndarray, sound:
     n_probe = min(len(loglik), int(_PROBE_S * ffs))
     best_key, est, spread, best_path, tables = None, cands[0], 0.0, None, None
     for c, sp in hyps:
-        # The model's own score decides, except that a rate leaving loud sounds
-        # inside its silences (half the true rate) loses to one that does not.
+        # The model's own score decides, less a cost for loud sounds a rate leaves
+        # inside its silences (half the true rate leaves whole S1-S2 pairs there).
         ld, ls = _tables(c.heart_rate_bpm, c.systolic_interval_s, sp, ffs, cfg)
         st, en, k, score = viterbi_cyclic(loglik[:n_probe], ld, ls)
-        key = (-round(_missed_fraction(st, en, k, sound[:n_probe]) / 0.2), score)
+        key = _reading_score(score, (st, en, k), sound[:n_probe], cfg.missed_sound_cost)
         if best_key is None or key > best_key:
             best_key, est, spread, best_path, tables = key, c, sp, (st, en, k), (ld, ls)
     double = 2.0 * est.heart_rate_bpm
@@ -418,13 +436,19 @@ def _decode_chunk(loglik: np.ndarray, homo: np.ndarray, tilt: np.ndarray, sound:
         est = _doubled(est)
         tables = None
     ld, ls = tables or _tables(est.heart_rate_bpm, est.systolic_interval_s, spread, ffs, cfg)
-    starts, ends, states, _ = viterbi_cyclic(loglik, ld, ls)
-    # One audible sound per beat at a fast rate reads as S1 + S2 at half the rate.
+    starts, ends, states, score = viterbi_cyclic(loglik, ld, ls)
+    # One audible sound per beat at a fast rate reads as S1 + S2 at half the rate:
+    # the doubled reading replaces it unless the model finds it clearly worse.
     if (feats is not None and 2.0 * est.heart_rate_bpm <= 1.05 * cfg.max_bpm
             and looks_halved(starts, ends, states, feats, 60.0 * ffs / est.heart_rate_bpm)):
-        est = _doubled(est)
-        ld, ls = _tables(est.heart_rate_bpm, est.systolic_interval_s, spread, ffs, cfg)
-        starts, ends, states, _ = viterbi_cyclic(loglik, ld, ls)
+        dbl = _doubled(est)
+        ld2, ls2 = _tables(dbl.heart_rate_bpm, dbl.systolic_interval_s, spread, ffs, cfg)
+        *doubled, score2 = viterbi_cyclic(loglik, ld2, ls2)
+        if (_reading_score(score2, doubled, sound, cfg.missed_sound_cost)
+                >= _reading_score(score, (starts, ends, states), sound, cfg.missed_sound_cost)
+                - cfg.half_rate_margin):
+            est, ld, ls = dbl, ld2, ls2
+            starts, ends, states = doubled
     # Second pass: durations from the first pass where it disagrees with the
     # assumptions, emissions adapted to this recording; one decoding for both.
     again = _refine(starts, states, est, ffs, cfg)
