@@ -84,6 +84,10 @@ class SegmentConfig:
         The diastole may last up to this many beat periods beyond its mean (carried
         by the uniform floor), so a pause or a long cycle of an irregular rhythm is
         not filled with an invented beat.
+    regular_diastole_tail_periods : float
+        The same for a rhythm decoded as regular (no RR spread): long enough for a
+        premature beat's compensatory pause (about 0.3-0.5 of a period beyond the
+        mean diastole), too short to pass over a whole beat whose sounds are faint.
     doubtful_beat_support, doubtful_beat_margin : float
         In an irregular rhythm a beat whose support (0-1, geometric mean of its
         segments' frame support) is below ``doubtful_beat_support`` and at least
@@ -119,6 +123,7 @@ class SegmentConfig:
     min_run_s: float = 2.5
     adapt_weight: float = 0.5
     diastole_tail_periods: float = 1.0
+    regular_diastole_tail_periods: float = 0.7
     doubtful_beat_support: float = 0.7
     doubtful_beat_margin: float = 0.15
     doubtful_beat_max_merged_rr: float = 1.6
@@ -227,7 +232,8 @@ def _tables(hr: float, sys_s: float, rr_spread_s: float, ffs: float, cfg: Segmen
                            diastole_sd_fraction=cfg.diastole_sd_fraction,
                            diastole_sd_floor_s=cfg.diastole_sd_floor_s,
                            rr_spread_s=rr_spread_s,
-                           diastole_tail_s=cfg.diastole_tail_periods * 60.0 / hr)
+                           diastole_tail_s=(cfg.diastole_tail_periods if rr_spread_s > 0
+                                            else cfg.regular_diastole_tail_periods) * 60.0 / hr)
     return duration_tables(laws, ffs, floor_weight=cfg.duration_floor_weight)
 
 
