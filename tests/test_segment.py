@@ -489,7 +489,7 @@ def test_stability_cue_is_not_turned_by_a_few_premature_beats():
     # premature beats (7 frames), diastole 20 +/- 2 frames. The plain standard
     # deviation of the systoles (0.048 s) exceeds the diastoles' (0.025 s) and would
     # vote to mirror the labels; the winsorised spreads (10/90 %) do not.
-    from eddyphone.segment import _swap_cues
+    from eddyphone.segment.orientation import swap_cues
 
     rng = np.random.default_rng(8)
     systole = np.full(20, 15)
@@ -503,5 +503,5 @@ def test_stability_cue_is_not_turned_by_a_few_premature_beats():
     starts, states = np.array(starts), np.array(states)
     ends = np.append(starts[1:], t)
     assert np.std(systole) / 50 > np.std(diastole) / 50  # what the old cue compared
-    cues = _swap_cues(starts, ends, states, np.zeros(t), 50.0)
+    cues = swap_cues(starts, ends, states, np.zeros(t), 50.0)
     assert cues["stability"] > 0

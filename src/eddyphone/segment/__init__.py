@@ -19,132 +19,40 @@ from dataclasses import asdict, dataclass
 
 import numpy as np
 
-from eddyphone.condition import median, percentiles
+from eddyphone.condition import median
 from eddyphone.envelope import Envelopes, envelopes
-from eddyphone.errors import InputError, ParameterError
+from eddyphone.errors import InputError
 from eddyphone.physiology import systolic_interval_s
 from eddyphone.rhythm import (
-    IRREGULAR_RR_CV,
     HeartRateEstimate,
     Rhythm,
     period_candidates,
     rhythm_from_beats,
 )
 from eddyphone.segment.beats import Beat, Segment, beats_from_segments
+from eddyphone.segment.config import SegmentConfig
 from eddyphone.segment.durations import STATES, duration_tables, state_durations
-from eddyphone.segment.emissions import FEATURE_NAMES, EmissionModel, frame_features
+from eddyphone.segment.emissions import (
+    FEATURE_NAMES,
+    EmissionModel,
+    adapt_to_recording,
+    frame_features,
+)
 from eddyphone.segment.halving import (
     EVEN_SOUNDS_SD,
     looks_halved,
+    missed_fraction,
     sound_separation,
+    too_even,
 )
 from eddyphone.segment.halving import sound_intervals as _intervals
 from eddyphone.segment.hsmm import viterbi_cyclic
+from eddyphone.segment.orientation import swap_evidence
 from eddyphone.segment.support import fold_doubtful_beats, segment_support
 
 __all__ = ["Beat", "Segment", "SegmentConfig", "Segmentation", "segment"]
 
 METHOD = "hsmm-viterbi/logistic-emissions/v1"
-
-
-@dataclass(frozen=True)
-class SegmentConfig:
-    """Segmentation settings.
-
-    Attributes
-    ----------
-    feature_fs : float
-        Feature frame rate in Hz (50: one frame per 20 ms).
-    min_bpm, max_bpm : float
-        Heart-rate search range of the autocorrelation.
-    s1_duration_s, s2_duration_s : (float, float)
-        Mean and sd of the S1 and S2 durations (Schmidt et al. 2010, from memory:
-        122 +/- 22 ms and 92 +/- 22 ms).
-    systole_sd_s : float
-        Spread of the systole (S1 end to S2 start) duration, plus 5 % of its mean.
-    diastole_sd_fraction, diastole_sd_floor_s : float
-        Diastole duration sd = fraction * mean + floor (before the RR spread is added).
-    duration_floor_weight : float
-        Weight of a uniform floor mixed into every duration law (robustness to
-        premature beats and pauses).
-    irregular_rr_cv : float
-        RR coefficient of variation above which the rhythm is flagged irregular.
-    refine_hr_change : float
-        Relative change of heart rate between the autocorrelation and the first
-        decoding that triggers a second decoding with the measured rate.
-    chunk_s, overlap_s : float
-        Long runs are decoded in chunks of ``chunk_s`` overlapping by ``overlap_s``
-        (heart rate re-estimated per chunk; memory stays bounded).
-    min_run_s : float
-        Usable stretches shorter than this are skipped (too short for a rhythm).
-    adapt_weight : float
-        Weight (0-1) of emissions re-fitted to the recording's own first decoding
-        (0 switches this adaptation off).
-    diastole_tail_periods : float
-        The diastole may last up to this many beat periods beyond its mean (carried
-        by the uniform floor), so a pause or a long cycle of an irregular rhythm is
-        not filled with an invented beat.
-    regular_diastole_tail_periods : float
-        The same for a rhythm decoded as regular (no RR spread): long enough for a
-        premature beat's compensatory pause (about 0.3-0.5 of a period beyond the
-        mean diastole), too short to pass over a whole beat whose sounds are faint.
-    doubtful_beat_support, doubtful_beat_margin : float
-        In an irregular rhythm a beat whose support (0-1, geometric mean of its
-        segments' frame support) is below ``doubtful_beat_support`` and at least
-        ``doubtful_beat_margin`` below the median beat is folded into the diastole,
-        unless that would leave an interval longer than ``doubtful_beat_max_merged_rr``
-        median RR (then the beat is more likely real and weak).
-    emission_model : str or None
-        Path of an emission model JSON; None uses the shipped model.
-    missed_sound_cost : float
-        Competing rates are scored by the mean frame log-likelihood of their decoding
-        less this times the fraction of its systoles and diastoles that hold a sound
-        it left unlabelled (half the true rate leaves whole S1-S2 pairs there; a
-        murmur or an S3 leaves less).
-    half_rate_margin : float
-        A decoding that looks like one sound per beat read as S1 + S2 (see
-        ``halving.looks_halved``) gives way to the doubled rate unless that scores
-        more than this below it (same score, per frame).
-    """
-
-    feature_fs: float = 50.0
-    min_bpm: float = 40.0
-    max_bpm: float = 200.0
-    s1_duration_s: tuple[float, float] = (0.122, 0.022)
-    s2_duration_s: tuple[float, float] = (0.092, 0.022)
-    systole_sd_s: float = 0.025
-    diastole_sd_fraction: float = 0.07
-    diastole_sd_floor_s: float = 0.02
-    duration_floor_weight: float = 0.03
-    irregular_rr_cv: float = IRREGULAR_RR_CV
-    refine_hr_change: float = 0.05
-    chunk_s: float = 60.0
-    overlap_s: float = 6.0
-    min_run_s: float = 2.5
-    adapt_weight: float = 0.5
-    diastole_tail_periods: float = 1.0
-    regular_diastole_tail_periods: float = 0.7
-    doubtful_beat_support: float = 0.7
-    doubtful_beat_margin: float = 0.15
-    doubtful_beat_max_merged_rr: float = 1.6
-    emission_model: str | None = None
-    missed_sound_cost: float = 0.3
-    half_rate_margin: float = 0.15
-
-    def __post_init__(self) -> None:
-        if not 10.0 <= self.feature_fs <= 500.0:
-            raise ParameterError(f"feature_fs={self.feature_fs} must lie in 10-500 Hz")
-        if not 20.0 <= self.min_bpm < self.max_bpm <= 300.0:
-            raise ParameterError(
-                f"min_bpm={self.min_bpm}, max_bpm={self.max_bpm} must satisfy "
-                "20 <= min_bpm < max_bpm <= 300")
-        if self.chunk_s < 4 * self.overlap_s or self.overlap_s < 2.0:
-            raise ParameterError(
-                f"chunk_s={self.chunk_s} must be at least 4 x overlap_s={self.overlap_s}, "
-                "and overlap_s at least 2 s")
-        if not 0.0 <= self.duration_floor_weight < 0.5:
-            raise ParameterError(
-                f"duration_floor_weight={self.duration_floor_weight} must lie in [0, 0.5)")
 
 
 @dataclass(frozen=True)
@@ -237,62 +145,6 @@ def _tables(hr: float, sys_s: float, rr_spread_s: float, ffs: float, cfg: Segmen
     return duration_tables(laws, ffs, floor_weight=cfg.duration_floor_weight)
 
 
-def _swap_evidence(starts: np.ndarray, ends: np.ndarray, states: np.ndarray,
-                   tilt: np.ndarray, ffs: float, loglik: np.ndarray | None = None) -> float:
-    """Evidence (> 0) that the decoded S1/S2 labels are the right way round."""
-    return sum(_swap_cues(starts, ends, states, tilt, ffs, loglik).values())
-
-
-def _winsorised_sd(v: np.ndarray) -> float:
-    """Standard deviation with values beyond the 10th and 90th percentiles pulled in to
-    them: a premature beat or two does not decide it, and unlike a median it does not
-    fall to zero on 20-ms frames."""
-    lo, hi = percentiles(v, (10.0, 90.0))
-    return float(np.std(np.clip(v, lo, hi)))
-
-
-def _swap_cues(starts: np.ndarray, ends: np.ndarray, states: np.ndarray,
-               tilt: np.ndarray, ffs: float, loglik: np.ndarray | None = None
-               ) -> dict[str, float]:
-    """The cues of :func:`_swap_evidence`, each > 0 for the labels as decoded.
-
-    Four cues, each clipped to +/-3: timing (systole shorter than diastole by the
-    margin the Weissler regression expects at this rate), stability (the systolic
-    interval varies less than the diastolic one when the rhythm varies; spreads
-    winsorised at 10/90 %, so a few premature beats cannot turn it), pitch (S2
-    is higher-pitched than S1, common practice) and the emission model (log
-    likelihood of the labels against the mirrored labels, per beat). The decoded
-    sound durations are no cue: the duration laws give S1 the longer mean, so
-    whichever sound is labelled S1 comes out longer.
-    """
-    sys, dia = _intervals(starts, states, ffs)
-    if len(sys) < 2 or len(dia) < 2:
-        return {}
-    frame_state = np.repeat(states, ends - starts)
-    emission = 0.0
-    if loglik is not None:
-        rows = np.arange(len(frame_state))
-        diff = float(np.sum(loglik[rows, frame_state])
-                     - np.sum(loglik[rows, (frame_state + 2) % 4]))
-        emission = float(np.clip(diff / max(len(sys), 1), -3, 3))
-    sys_m, dia_m = median(sys), median(dia)
-    hr = 60.0 / (sys_m + dia_m)
-    sys_reg = systolic_interval_s(float(np.clip(hr, 20.0, 250.0)))[0]
-    expected = (60.0 / hr - sys_reg) - sys_reg
-    timing = 0.0
-    if abs(expected) >= 0.05:
-        timing = float(np.clip((dia_m - sys_m) / 0.08, -3, 3)) * np.sign(expected)
-    stability = 0.0
-    sd_s, sd_d = _winsorised_sd(sys), _winsorised_sd(dia)
-    if len(sys) >= 4 and max(sd_s, sd_d) > 0.015:
-        stability = float(np.clip(np.log((sd_d + 0.005) / (sd_s + 0.005)) / 0.5, -3, 3))
-    m1, m2 = tilt[frame_state == 0], tilt[frame_state == 2]
-    pitch = 0.0
-    if len(m1) and len(m2):
-        pitch = float(np.clip((np.mean(m2) - np.mean(m1)) / 0.3, -3, 3))
-    return {"timing": timing, "stability": stability, "pitch": pitch, "emission": emission}
-
-
 def _refine(starts, states, est: HeartRateEstimate, ffs: float, cfg: SegmentConfig):
     """Duration tables for a second pass, from the rate, systolic interval and RR
     spread of the first (None when they agree with the first pass's assumptions)."""
@@ -319,52 +171,11 @@ def _refine(starts, states, est: HeartRateEstimate, ffs: float, cfg: SegmentConf
 _PROBE_S = 8.0
 
 
-def _missed_fraction(starts: np.ndarray, ends: np.ndarray, states: np.ndarray,
-                     sound: np.ndarray) -> float:
-    """Fraction of systoles and diastoles holding a sound the model did not label.
-
-    A rate that is half the true one leaves a whole S1-S2 pair inside each of its
-    diastoles. A gap "holds a sound" when at least 3 consecutive frames (60 ms at
-    50 Hz) inside it have P(sound) above 0.6.
-    """
-    loud = sound > 0.6
-    triple = np.zeros(len(sound) + 1, dtype=int)
-    triple[1: max(len(sound) - 1, 1)] = loud[:-2] & loud[1:-1] & loud[2:]
-    count = np.cumsum(triple)  # count[i] = triples starting before frame i
-    gap = ((states == 1) | (states == 3)) & (ends - starts >= 5)
-    gaps = int(np.count_nonzero(gap))
-    # a triple inside frames s + 1 .. e - 2 starts at s + 1 .. e - 4
-    hits = int(np.count_nonzero(count[ends[gap] - 3] - count[starts[gap] + 1] > 0))
-    return hits / gaps if gaps else 0.0
-
-
 def _reading_score(score: float, path, sound: np.ndarray, missed_cost: float) -> float:
     """How well a decoded reading explains its frames: the mean frame log-likelihood
     (``score`` over ``len(sound)`` frames) less ``missed_cost`` times the fraction of
     its systoles and diastoles that hold a sound it left unlabelled."""
-    return score / len(sound) - missed_cost * _missed_fraction(*path, sound)
-
-
-def _too_even(starts: np.ndarray, states: np.ndarray, ffs: float) -> bool:
-    """True when "S1" and "S2" are evenly spaced although the rate says they should not be.
-
-    At a given rate the Weissler regression fixes how unequal systole and diastole
-    are (at 65 bpm diastole is about 0.2 s longer). Sounds spaced evenly where the
-    regression expects a clear difference are more likely one sound per beat at
-    twice the rate (a soft S2 at a fast rate) than S1 and S2 at this rate.
-    """
-    sys, dia = _intervals(starts, states, ffs)
-    if len(sys) < 3 or len(dia) < 3:
-        return False
-    sys_m, dia_m = median(sys), median(dia)
-    rr = sys_m + dia_m
-    hr = 60.0 / rr
-    expected_s = abs(rr - 2.0 * systolic_interval_s(float(np.clip(hr, 20.0, 250.0)))[0])
-    measured_s = abs(dia_m - sys_m)
-    # Even within a quarter of the expected difference (when that is over 8 % of
-    # the cycle), or within about one frame (20 ms) where 40 ms or more is due.
-    return ((expected_s > 0.08 * rr and measured_s < 0.25 * expected_s)
-            or (expected_s >= 0.04 and measured_s <= 0.025))
+    return score / len(sound) - missed_cost * missed_fraction(*path, sound)
 
 
 def _hypotheses(cands: list[HeartRateEstimate], sound: np.ndarray, ffs: float,
@@ -383,34 +194,6 @@ def _hypotheses(cands: list[HeartRateEstimate], sound: np.ndarray, ffs: float,
                     0.2 * 60.0 / hr_count))
     out.append((first, 0.2 * 60.0 / first.heart_rate_bpm))
     return out
-
-
-def _adapted(loglik: np.ndarray, feats: np.ndarray, starts: np.ndarray, ends: np.ndarray,
-             states: np.ndarray, weight: float) -> np.ndarray:
-    """Mix the shipped emissions with Gaussians fitted to this recording's first decoding.
-
-    One step of unsupervised adaptation: each state's frames (as first decoded) give a
-    diagonal Gaussian over the features; its class posterior, divided by the state
-    frequencies, is averaged (in the log domain, with ``weight``) with the shipped
-    model. A device or noise the training never saw moves the features; the
-    recording's own statistics follow them.
-    """
-    lab = np.repeat(states, ends - starts)
-    n = loglik.shape[1]
-    counts = np.bincount(lab, minlength=n)
-    if np.any(counts < 10):
-        return loglik
-    onehot = np.eye(n)[lab]  # (T, N)
-    mu = (onehot.T @ feats) / counts[:, None]  # (N, F)
-    var = (onehot.T @ feats ** 2) / counts[:, None] - mu ** 2 + 0.05
-    # -0.5 * sum_f ((x - mu)^2 / var + log var), expanded into matrix products
-    ll = -0.5 * ((feats ** 2) @ (1.0 / var).T - 2.0 * feats @ (mu / var).T
-                 + np.sum(mu ** 2 / var + np.log(var), axis=1))
-    prior = np.log(counts / counts.sum())
-    post = ll + prior
-    top = post.max(axis=1, keepdims=True)
-    post -= top + np.log(np.exp(post - top).sum(axis=1, keepdims=True))
-    return (1.0 - weight) * loglik + weight * (post - prior)
 
 
 def _doubled(est: HeartRateEstimate) -> HeartRateEstimate:
@@ -436,7 +219,7 @@ def _decode_chunk(loglik: np.ndarray, homo: np.ndarray, tilt: np.ndarray, sound:
             best_key, est, spread, best_path, tables = key, c, sp, (st, en, k), (ld, ls)
     double = 2.0 * est.heart_rate_bpm
     if (best_path is not None and double <= 1.05 * cfg.max_bpm
-            and _too_even(best_path[0], best_path[2], ffs)
+            and too_even(best_path[0], best_path[2], ffs)
             and (feats is None
                  or sound_separation(*best_path, feats[:n_probe]) < EVEN_SOUNDS_SD)):
         est = _doubled(est)
@@ -461,14 +244,14 @@ def _decode_chunk(loglik: np.ndarray, homo: np.ndarray, tilt: np.ndarray, sound:
     adapt = feats is not None and cfg.adapt_weight > 0
     shipped = loglik
     if adapt:
-        loglik = _adapted(loglik, feats, starts, ends, states, cfg.adapt_weight)
+        loglik = adapt_to_recording(loglik, feats, starts, ends, states, cfg.adapt_weight)
     if again is not None:
         ld, ls = again
     if again is not None or adapt:
         starts, ends, states, _ = viterbi_cyclic(loglik, ld, ls)
     # The shipped emissions judge the labels: the adapted ones were fitted to this
     # very labelling and would vouch for it whichever way round it is.
-    if _swap_evidence(starts, ends, states, tilt, ffs, shipped) < 0:
+    if swap_evidence(starts, ends, states, tilt, ffs, shipped) < 0:
         # S1 <-> S2 and systole <-> diastole: the same boundaries, labels mirrored.
         states = (states + 2) % 4
     return _Decoded(starts, ends, states, est)

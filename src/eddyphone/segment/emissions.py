@@ -214,3 +214,31 @@ def fit_emission_model(features: np.ndarray, labels: np.ndarray, *, n_states: in
     prior = np.array([np.sum(w[y == s]) for s in range(n_states)])
     return EmissionModel(wt, b, np.log(np.clip(prior, 1e-9, None)), FEATURE_NAMES,
                          dict(info or {}))
+
+
+def adapt_to_recording(loglik: np.ndarray, feats: np.ndarray, starts: np.ndarray, ends: np.ndarray,
+             states: np.ndarray, weight: float) -> np.ndarray:
+    """Mix the shipped emissions with Gaussians fitted to this recording's first decoding.
+
+    One step of unsupervised adaptation: each state's frames (as first decoded) give a
+    diagonal Gaussian over the features; its class posterior, divided by the state
+    frequencies, is averaged (in the log domain, with ``weight``) with the shipped
+    model. A device or noise the training never saw moves the features; the
+    recording's own statistics follow them.
+    """
+    lab = np.repeat(states, ends - starts)
+    n = loglik.shape[1]
+    counts = np.bincount(lab, minlength=n)
+    if np.any(counts < 10):
+        return loglik
+    onehot = np.eye(n)[lab]  # (T, N)
+    mu = (onehot.T @ feats) / counts[:, None]  # (N, F)
+    var = (onehot.T @ feats ** 2) / counts[:, None] - mu ** 2 + 0.05
+    # -0.5 * sum_f ((x - mu)^2 / var + log var), expanded into matrix products
+    ll = -0.5 * ((feats ** 2) @ (1.0 / var).T - 2.0 * feats @ (mu / var).T
+                 + np.sum(mu ** 2 / var + np.log(var), axis=1))
+    prior = np.log(counts / counts.sum())
+    post = ll + prior
+    top = post.max(axis=1, keepdims=True)
+    post -= top + np.log(np.exp(post - top).sum(axis=1, keepdims=True))
+    return (1.0 - weight) * loglik + weight * (post - prior)

@@ -19,6 +19,8 @@ rhythm at that rate, each a property of the cardiac cycle, not of a device:
 Public API
 ----------
 looks_halved(starts, ends, states, feats, period_frames) -> bool
+too_even(starts, states, ffs) -> bool
+missed_fraction(starts, ends, states, sound) -> float
 sound_separation(starts, ends, states, feats) -> float
 sound_intervals(starts, states, ffs) -> (systolic, diastolic intervals)
 """
@@ -28,6 +30,7 @@ from __future__ import annotations
 import numpy as np
 
 from eddyphone.condition import median
+from eddyphone.physiology import systolic_interval_s
 from eddyphone.rhythm import autocorrelation_at, envelope_autocorrelation
 
 #: Feature columns (of ``emissions.FEATURE_NAMES``) whose self-similarity is compared:
@@ -40,7 +43,7 @@ _ENVELOPE_COLUMNS = (0, 3, 4, 6)
 #: (``SegmentConfig.half_rate_margin``): against 1.0 it mended one 152-bpm recording
 #: and spoilt none.
 ALIKE_SOUNDS_SD = 1.5
-#: Evenly spaced sounds (see ``segment._too_even``) are taken for one sound per beat only
+#: Evenly spaced sounds (see :func:`too_even`) are taken for one sound per beat only
 #: when S1 and S2 differ by less than this: on 16 benchmark recordings where evenness
 #: fired, the fast rhythms read at half rate separated by 0.7-1.8 sd, the real cycles
 #: at 80-90 bpm by 3.0-14 (measured while the decoded lengths still counted; leaving
@@ -119,3 +122,44 @@ def looks_halved(starts: np.ndarray, ends: np.ndarray, states: np.ndarray,
     return (_intervals_alike(starts, states)
             and sound_separation(starts, ends, states, feats) < ALIKE_SOUNDS_SD
             and _half_like_whole(feats, period_frames))
+
+
+def missed_fraction(starts: np.ndarray, ends: np.ndarray, states: np.ndarray,
+                     sound: np.ndarray) -> float:
+    """Fraction of systoles and diastoles holding a sound the model did not label.
+
+    A rate that is half the true one leaves a whole S1-S2 pair inside each of its
+    diastoles. A gap "holds a sound" when at least 3 consecutive frames (60 ms at
+    50 Hz) inside it have P(sound) above 0.6.
+    """
+    loud = sound > 0.6
+    triple = np.zeros(len(sound) + 1, dtype=int)
+    triple[1: max(len(sound) - 1, 1)] = loud[:-2] & loud[1:-1] & loud[2:]
+    count = np.cumsum(triple)  # count[i] = triples starting before frame i
+    gap = ((states == 1) | (states == 3)) & (ends - starts >= 5)
+    gaps = int(np.count_nonzero(gap))
+    # a triple inside frames s + 1 .. e - 2 starts at s + 1 .. e - 4
+    hits = int(np.count_nonzero(count[ends[gap] - 3] - count[starts[gap] + 1] > 0))
+    return hits / gaps if gaps else 0.0
+
+
+def too_even(starts: np.ndarray, states: np.ndarray, ffs: float) -> bool:
+    """True when "S1" and "S2" are evenly spaced although the rate says they should not be.
+
+    At a given rate the Weissler regression fixes how unequal systole and diastole
+    are (at 65 bpm diastole is about 0.2 s longer). Sounds spaced evenly where the
+    regression expects a clear difference are more likely one sound per beat at
+    twice the rate (a soft S2 at a fast rate) than S1 and S2 at this rate.
+    """
+    sys, dia = sound_intervals(starts, states, ffs)
+    if len(sys) < 3 or len(dia) < 3:
+        return False
+    sys_m, dia_m = median(sys), median(dia)
+    rr = sys_m + dia_m
+    hr = 60.0 / rr
+    expected_s = abs(rr - 2.0 * systolic_interval_s(float(np.clip(hr, 20.0, 250.0)))[0])
+    measured_s = abs(dia_m - sys_m)
+    # Even within a quarter of the expected difference (when that is over 8 % of
+    # the cycle), or within about one frame (20 ms) where 40 ms or more is due.
+    return ((expected_s > 0.08 * rr and measured_s < 0.25 * expected_s)
+            or (expected_s >= 0.04 and measured_s <= 0.025))
