@@ -18,7 +18,7 @@ reference, with its designed labels. Grades above III are compared as "III or
 more" (sound alone cannot show the thrill that grades IV-VI need).
 
     python bench/bench_findings.py [--n 150] [--seed 1] [--beats truth|hsmm] [--jobs 2]
-        [--rows rows.json]
+        [--rows rows.json] [--cache DIR]
 """
 
 from __future__ import annotations
@@ -29,14 +29,12 @@ from collections import Counter
 from concurrent.futures import ProcessPoolExecutor
 
 
-def _one(args: tuple) -> dict:
-    spec, beats_from = args
+def _prepare(spec, beats_from: str) -> dict:
+    """Generate, condition and segment one case (what the findings take as input)."""
     from eddyphone.condition import condition
-    from eddyphone.findings import describe
     from eddyphone.segment.beats import Segment, beats_from_segments
     from eddyphone.simulate import generate
 
-    t0 = time.perf_counter()
     sim = generate(spec)
     c = condition(sim.x, sim.fs)
     if beats_from == "truth":
@@ -46,10 +44,35 @@ def _one(args: tuple) -> dict:
         from eddyphone.segment import segment
 
         beats = segment(c.x, c.fs).beats
+    return {"x": c.x, "fs": c.fs, "beats": beats, "murmur": sim.truth["murmur"],
+            "events": sim.events}
+
+
+def _one(args: tuple) -> dict:
+    spec, beats_from, cache = args
+    import hashlib
+    import pickle
+    from pathlib import Path
+
+    from eddyphone.findings import describe
+
+    t0 = time.perf_counter()
+    # keyed by the whole case (a draw's case seed alone names different cases for
+    # different --n)
+    key = hashlib.sha1(repr(spec).encode()).hexdigest()[:12]
+    path = Path(cache) / f"{spec.seed}_{key}_{beats_from}.pkl" if cache else None
+    if path is not None and path.exists():
+        with open(path, "rb") as fh:
+            case = pickle.load(fh)
+    else:
+        case = _prepare(spec, beats_from)
+        if path is not None:
+            with open(path, "wb") as fh:
+                pickle.dump(case, fh)
     t1 = time.perf_counter()
-    f = describe(c.x, c.fs, beats)
+    f = describe(case["x"], case["fs"], case["beats"])
     t2 = time.perf_counter()
-    return row(spec, sim.truth["murmur"], sim.events, beats, f, t1 - t0, t2 - t1)
+    return row(spec, case["murmur"], case["events"], case["beats"], f, t1 - t0, t2 - t1)
 
 
 def row(spec, m: dict, events, beats, f, t_prep_s: float, t_findings_s: float) -> dict:
@@ -96,13 +119,21 @@ def main() -> None:
     ap.add_argument("--jobs", type=int, default=2)
     ap.add_argument("--worst", type=int, default=12)
     ap.add_argument("--rows", help="also write the per-case rows to this JSON file")
+    ap.add_argument("--cache", help="keep each case's conditioned samples and beats in this "
+                    "folder and reuse them on later runs, so that two runs differ only by the "
+                    "findings code (the segmenter changes too; the timing line then counts "
+                    "loading, not generating)")
     a = ap.parse_args()
     from eddyphone.simulate import benchmark_specs
 
     specs = benchmark_specs(a.n, seed=a.seed)
+    if a.cache:
+        from pathlib import Path
+
+        Path(a.cache).mkdir(parents=True, exist_ok=True)
     t0 = time.perf_counter()
     with ProcessPoolExecutor(a.jobs) as ex:
-        rows = list(ex.map(_one, [(s, a.beats) for s in specs], chunksize=2))
+        rows = list(ex.map(_one, [(s, a.beats, a.cache) for s in specs], chunksize=2))
     wall = time.perf_counter() - t0
     if a.rows:
         import json
