@@ -644,3 +644,19 @@ def test_ejection_murmur_behind_a_tilted_chest_piece_with_breathing_keeps_its_sw
     m = f.main()
     assert m is not None and m.phase == "systolic", f.presence_reason
     assert (m.timing, m.shape) == ("mid", "crescendo-decrescendo")
+
+
+def test_split_heard_in_only_some_beats_is_not_called_fixed():
+    # Common practice: a physiological split widens on inspiration and closes (single
+    # S2) on expiration; a fixed split is there in every beat, unchanged. Hand-built
+    # A2-P2 series (s), None where S2 was single.
+    from eddyphone.findings.extra import _split_variation
+
+    steady = [0.040, 0.042, 0.038, 0.041, 0.039] * 4
+    assert _split_variation(steady) == ("fixed across the recording", False)
+    half = [0.040, None, 0.041, None, 0.039, None, 0.040, None] * 3
+    text, varies = _split_variation(half)
+    assert varies and text.startswith("heard in 12 of 24 beats")
+    breathing = [0.025, 0.030, 0.045, 0.055, 0.050, 0.035] * 4
+    assert _split_variation(breathing) == (
+        "varies across the recording (as with breathing)", True)
