@@ -82,8 +82,8 @@ def _split_variation(splits: list[float | None]) -> tuple[str, bool]:
     """
     heard = sum(v is not None for v in splits)
     if heard < FIXED_SPLIT_MIN_FRACTION * len(splits):
-        return (f"heard in {heard} of {len(splits)} beats, single in the others "
-                "(as on expiration)", True)
+        return (f"heard in {heard} of {len(splits)} beats, single in the others as on "
+                "expiration", True)
     heard_s = np.array([v for v in splits if v is not None])
     spread = float(np.percentile(heard_s, 90) - np.percentile(heard_s, 10))
     if spread >= SPLIT_VARIES_S:
