@@ -598,9 +598,9 @@ def murmur_figure(analysis: Any, murmur: Any):
             used = getattr(murmur, "beats_used", None)
             count = (f"in {murmur.beats_with_murmur} of {used} beats" if used
                      else f"{len(windows)} beats")
-            ax.text(0.99, 0.97, f"mean window {mean_ms:.0f} ms\n{count}",
-                    transform=ax.transAxes, ha="right", va="top", fontsize=7,
-                    color=palette.MUTED)
+            # under the axis label: inside the plot the note ran into the profile and
+            # the peak label, beside the title into the title
+            ax.set_xlabel(f"{ax.get_xlabel()}\nmean window {mean_ms:.0f} ms, {count}")
         _murmur_spectrum(sp, x, fs, analysis, murmur, windows)
     return fig
 
