@@ -24,9 +24,12 @@ more" (sound alone cannot show the thrill that grades IV-VI need).
 from __future__ import annotations
 
 import argparse
+import hashlib
+import pickle
 import time
 from collections import Counter
 from concurrent.futures import ProcessPoolExecutor
+from pathlib import Path
 
 
 def _prepare(spec, beats_from: str) -> dict:
@@ -50,10 +53,6 @@ def _prepare(spec, beats_from: str) -> dict:
 
 def _one(args: tuple) -> dict:
     spec, beats_from, cache = args
-    import hashlib
-    import pickle
-    from pathlib import Path
-
     from eddyphone.findings import describe
 
     t0 = time.perf_counter()
@@ -128,8 +127,6 @@ def main() -> None:
 
     specs = benchmark_specs(a.n, seed=a.seed)
     if a.cache:
-        from pathlib import Path
-
         Path(a.cache).mkdir(parents=True, exist_ok=True)
     t0 = time.perf_counter()
     with ProcessPoolExecutor(a.jobs) as ex:

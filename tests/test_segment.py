@@ -431,6 +431,8 @@ def test_benchmark_cases_once_read_at_half_or_double_rate(draw, case, what):
     # doubled reading had to be nearly as likely as the one it replaces and the
     # decoded lengths stopped counting as a difference between the sounds. Their S1/S2
     # F1 was then 0.32-0.52; now the rate is right and F1 at least 0.8 (at 2-4 dB).
+    # Reference: the simulator's exact truth (heart rate of the whole beats, S1/S2
+    # segments).
     from eddyphone.simulate import benchmark_specs
 
     spec = benchmark_specs(120, seed=draw)[case]

@@ -590,7 +590,7 @@ def murmur_figure(analysis: Any, murmur: Any):
             _note(ax, "no profile available")
         start, end = {"systolic": ("S1 end", "S2 start"), "diastolic": ("S2 end", "next S1"),
                       "continuous": ("S1", "next S1")}.get(murmur.phase, ("start", "end"))
-        ax.set_xlabel(f"position in window, % ({start} → {end})")
+        label = f"position in window, % ({start} → {end})"
         ax.set_ylabel("murmur profile (1 = its peak)")
         ax.set_title(f"{murmur.id}: {timing_phase(murmur)} {getattr(murmur, 'shape', '')}",
                      fontsize=9, pad=12)
@@ -600,7 +600,8 @@ def murmur_figure(analysis: Any, murmur: Any):
                      else f"{len(windows)} beats")
             # under the axis label: inside the plot the note ran into the profile and
             # the peak label, beside the title into the title
-            ax.set_xlabel(f"{ax.get_xlabel()}\nmean window {mean_ms:.0f} ms, {count}")
+            label += f"\nmean window {mean_ms:.0f} ms, {count}"
+        ax.set_xlabel(label)
         _murmur_spectrum(sp, x, fs, analysis, murmur, windows)
     return fig
 
