@@ -130,3 +130,21 @@ def test_truth_says_whether_the_recording_carries_the_murmur():
     none = generate(CaseSpec(heart_rate_bpm=72, duration_s=8.0, seed=3))
     assert none.truth["murmur"]["audible_in_recording"] is False
     assert none.truth["murmur"]["inaudible_reason"] == "no murmur"
+
+
+def test_carried_murmur_bands_are_the_simulators_own():
+    # The benchmark's truth must not move with the findings' settings: the bands are
+    # our own convention (octave-wide from 75 Hz over 25-900 Hz, docs/simulator.md),
+    # defined in the simulator and not imported from the findings package.
+    import ast
+    import inspect
+
+    from eddyphone.simulate import truth
+
+    assert MNR_BANDS_HZ == ((25.0, 75.0), (75.0, 150.0), (150.0, 300.0), (300.0, 600.0),
+                            (600.0, 900.0))
+    for (lo, hi), (lo2, _) in zip(MNR_BANDS_HZ[1:-1], MNR_BANDS_HZ[2:-1]):
+        assert hi == pytest.approx(2.0 * lo) and lo2 == hi  # octaves, contiguous
+    tree = ast.parse(inspect.getsource(truth))
+    imported = [n.module for n in ast.walk(tree) if isinstance(n, ast.ImportFrom)]
+    assert not any((m or "").startswith("eddyphone.findings") for m in imported)
