@@ -204,7 +204,8 @@ def _doubled(est: HeartRateEstimate) -> HeartRateEstimate:
 
 def _decode_chunk(loglik: np.ndarray, homo: np.ndarray, tilt: np.ndarray, sound: np.ndarray,
                   homo_rel: np.ndarray, ffs: float, cfg: SegmentConfig,
-                  feats: np.ndarray | None = None) -> _Decoded:
+                  feats: np.ndarray | None = None,
+                  signal: tuple[np.ndarray, int] | None = None) -> _Decoded:
     cands = period_candidates(homo, ffs, min_bpm=cfg.min_bpm, max_bpm=cfg.max_bpm)
     hyps = _hypotheses(cands, sound, ffs, cfg)
     n_probe = min(len(loglik), int(_PROBE_S * ffs))
@@ -251,7 +252,7 @@ def _decode_chunk(loglik: np.ndarray, homo: np.ndarray, tilt: np.ndarray, sound:
         starts, ends, states, _ = viterbi_cyclic(loglik, ld, ls)
     # The shipped emissions judge the labels: the adapted ones were fitted to this
     # very labelling and would vouch for it whichever way round it is.
-    if swap_evidence(starts, ends, states, tilt, ffs, shipped) < 0:
+    if swap_evidence(starts, ends, states, tilt, ffs, shipped, signal) < 0:
         # S1 <-> S2 and systole <-> diastole: the same boundaries, labels mirrored.
         states = (states + 2) % 4
     return _Decoded(starts, ends, states, est)
@@ -310,9 +311,10 @@ def _chunks(a: int, b: int, chunk: int, overlap: int) -> list[tuple[int, int]]:
 
 
 def _decode_run(feat: np.ndarray, homo: np.ndarray, model: EmissionModel, ffs: float,
-                cfg: SegmentConfig, a: int, b: int
+                cfg: SegmentConfig, a: int, b: int, x: np.ndarray, hop: int
                 ) -> tuple[list[tuple[int, int, int]], list[HeartRateEstimate], np.ndarray]:
-    """Decode frames a..b (absolute) in overlapping chunks and stitch the results."""
+    """Decode frames a..b (absolute) in overlapping chunks and stitch the results
+    (``x``: the samples, ``hop`` of them per frame)."""
     chunk = int(cfg.chunk_s * ffs)
     overlap = int(cfg.overlap_s * ffs)
     out: list[tuple[int, int, int]] = []
@@ -326,7 +328,8 @@ def _decode_run(feat: np.ndarray, homo: np.ndarray, model: EmissionModel, ffs: f
         post = np.exp(loglik + model.log_prior)
         posts.append((lo, hi, post))
         dec = _decode_chunk(loglik, homo[lo:hi], f[:, FEATURE_NAMES.index("pitch_tilt")],
-                            post[:, 0] + post[:, 2], f[:, 0], ffs, cfg, feats=f)
+                            post[:, 0] + post[:, 2], f[:, 0], ffs, cfg, feats=f,
+                            signal=(x[lo * hop: hi * hop], hop))
         estimates.append(dec.estimate)
         segs = [(int(s) + lo, int(e) + lo, int(k))
                 for s, e, k in zip(dec.starts, dec.ends, dec.states, strict=True)]
@@ -402,7 +405,7 @@ def segment(x: np.ndarray, fs: float, *, quality=None,
     scores: list[float] = []
     estimates: list[HeartRateEstimate] = []
     for a, b in runs:
-        segs, ests, post = _decode_run(feat, env.homomorphic, model, ffs, cfg, a, b)
+        segs, ests, post = _decode_run(feat, env.homomorphic, model, ffs, cfg, a, b, x, hop)
         estimates.extend(ests)
         sound = post[:, 0] + post[:, 2]
         segs, seg_scores = fold_doubtful_beats(segs, segment_support(segs, sound, a),
