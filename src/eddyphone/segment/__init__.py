@@ -48,6 +48,7 @@ from eddyphone.segment.halving import (
 from eddyphone.segment.halving import sound_intervals as _intervals
 from eddyphone.segment.hsmm import viterbi_cyclic
 from eddyphone.segment.orientation import swap_evidence
+from eddyphone.segment.slips import mend_slip
 from eddyphone.segment.support import fold_doubtful_beats, segment_support
 
 __all__ = ["Beat", "Segment", "SegmentConfig", "Segmentation", "segment"]
@@ -255,6 +256,9 @@ def _decode_chunk(loglik: np.ndarray, homo: np.ndarray, tilt: np.ndarray, sound:
     if swap_evidence(starts, ends, states, tilt, ffs, shipped, signal) < 0:
         # S1 <-> S2 and systole <-> diastole: the same boundaries, labels mirrored.
         states = (states + 2) % 4
+    if cfg.slip_min_evidence > 0:
+        starts, ends, states = mend_slip((starts, ends, states), loglik, (ld, ls), tilt, ffs,
+                                         shipped, signal, cfg.slip_min_evidence)
     return _Decoded(starts, ends, states, est)
 
 

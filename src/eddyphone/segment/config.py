@@ -66,6 +66,11 @@ class SegmentConfig:
         A decoding that looks like one sound per beat read as S1 + S2 (see
         ``halving.looks_halved``) gives way to the doubled rate unless that scores
         more than this below it (same score, per frame).
+    slip_min_evidence : float
+        At a long gap between sounds where the S1/S2 orientation votes on either side
+        are both at least this strong and opposite, the labels slipped (a sound
+        passed over): each side is decoded and oriented again on its own (see
+        ``segment.slips``; 0 switches this off).
     """
 
     feature_fs: float = 50.0
@@ -91,6 +96,7 @@ class SegmentConfig:
     emission_model: str | None = None
     missed_sound_cost: float = 0.3
     half_rate_margin: float = 0.15
+    slip_min_evidence: float = 2.0
 
     def __post_init__(self) -> None:
         if not 10.0 <= self.feature_fs <= 500.0:
