@@ -660,3 +660,52 @@ def test_split_heard_in_only_some_beats_is_not_called_fixed():
     breathing = [0.025, 0.030, 0.045, 0.055, 0.050, 0.035] * 4
     assert _split_variation(breathing) == (
         "varies across the recording (as with breathing)", True)
+
+
+def test_murmur_bands_do_not_skip_an_octave():
+    # Our own rule: a turbulent murmur's spectrum is smooth, so its excess over the
+    # floor does not skip an analysis band. Hand-built excess (dB) in the first five
+    # bins of a 12-bin systolic window: a low decrescendo in 25-75 Hz (like S1's own
+    # ringing) and a separate faint excess in 300-600 Hz with nothing between. The
+    # candidate is the low band alone, judged as a low-only excess (100 ms within
+    # 6 dB of its peak, FindingsConfig.min_low_murmur_s), and the 40-ms decrescendo
+    # is set aside as a transient. With 75-300 Hz raised as well (a broadband
+    # murmur) all four bands are kept and the same course is a murmur.
+    from eddyphone.findings.murmur import _judge_run
+
+    cfg = FindingsConfig()
+    n_bins, bin_s = 12, 0.01
+    dur = np.array([n_bins * bin_s, 0.3])
+    M = np.zeros((2, 5, n_bins))
+    M[0, 0, :5] = [20.0, 18.0, 12.0, 8.0, 5.0]
+    M[0, 3, :5] = [8.0, 8.0, 7.0, 7.0, 6.0]
+    cand, _, low_only, _ = _judge_run(M, 0, [0, 3], 0, 5, bin_s, dur, cfg)
+    assert low_only and cand is None
+    M[0, 1, :5] = M[0, 2, :5] = [9.0, 9.0, 8.0, 8.0, 7.0]
+    cand, _, low_only, _ = _judge_run(M, 0, [0, 1, 2, 3], 0, 5, bin_s, dur, cfg)
+    assert not low_only and cand is not None and cand.bands == (0, 1, 2, 3)
+    # a band between that stands out of its floor (4 dB, FindingsConfig.excess_db)
+    # but more than 15 dB under the strongest still joins the bands on either side
+    M[0, 0, :5] = [30.0, 28.0, 25.0, 22.0, 20.0]
+    M[0, 1, :5] = [28.0, 27.0, 25.0, 22.0, 20.0]
+    M[0, 2, :5] = [10.0, 10.0, 9.0, 9.0, 8.0]
+    M[0, 3, :5] = [30.0, 30.0, 28.0, 27.0, 26.0]
+    cand, _, _, _ = _judge_run(M, 0, [0, 1, 3], 0, 5, bin_s, dur, cfg)
+    assert cand is not None and cand.bands == (0, 1, 3)
+
+
+@pytest.mark.parametrize("draw,case_seed,present", [(1, 100592, False), (1, 100296, True)])
+def test_excess_beyond_a_band_gap_is_another_sound(draw, case_seed, present):
+    # Benchmark recordings behind the steeply tilted chest piece (simulator truth): a
+    # murmur-free one whose early-systolic excess stood in 25-150 Hz and, beyond an
+    # empty octave, in 300-600 Hz (S1's low ringing and another sound, read as a
+    # murmur), and one carrying an ejection murmur that a band skipped by it had kept
+    # 'uncertain'.
+    from eddyphone.simulate import benchmark_specs
+
+    spec = next(s for s in benchmark_specs(600, seed=draw) if s.seed == case_seed)
+    sim, f = _findings(spec)
+    truth = sim.truth["murmur"]
+    assert spec.device == "steep_tilt"
+    assert bool(truth["audible_in_recording"]) is present
+    assert (f.presence == "present") is present, f.presence_reason

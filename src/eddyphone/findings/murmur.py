@@ -373,6 +373,19 @@ def _runs(mask: np.ndarray) -> list[tuple[int, int]]:
     return [(int(a), int(b)) for a, b in zip(edges[::2], edges[1::2])]
 
 
+def _contiguous_block(bands: list[int], top: int) -> list[int]:
+    """The run of consecutive band indices in ``bands`` that holds ``top``: a
+    turbulent murmur's spectrum is smooth, so its excess over the same recording's
+    floor does not skip an octave band; bands standing out beyond a gap belong to
+    another sound (our own rule)."""
+    out = [top]
+    while out[0] - 1 in bands:
+        out.insert(0, out[0] - 1)
+    while out[-1] + 1 in bands:
+        out.append(out[-1] + 1)
+    return out
+
+
 @dataclass(frozen=True)
 class _Candidate:
     window: int
@@ -391,7 +404,13 @@ def _judge_run(M: np.ndarray, w: int, bands: list[int], s: int, e: int, bin_s: f
     # bands that carry it (within 15 dB of its strongest band); nothing above
     # 150 Hz means it sounds like S3, S4 or a sound tail
     peak_b = M[w][bands][:, s:e].max(axis=1)
+    top = bands[int(np.argmax(peak_b))]
     bands = [b for b, pk in zip(bands, peak_b) if pk >= peak_b.max() - 15.0]
+    # ... around the strongest without a gap (a band between counts when it stands
+    # out of its floor in the run, even more than 15 dB under the strongest)
+    raised = {b for b in range(M.shape[1]) if M[w][b, s:e].max() >= cfg.excess_db}
+    block = _contiguous_block(sorted(raised | set(bands)), top)
+    bands = [b for b in bands if b in block]
     # how long it stays within 6 dB of its peak, on its excess in dB averaged
     # over those bands (a power sum lets one loud band and bin, such as a heart
     # sound's tail at the window's edge, make a long murmur look short)
