@@ -611,3 +611,28 @@ def test_a_sound_passed_over_is_mended_and_a_clean_path_left_alone():
     assert np.max(np.abs(s1_mended - s1_true)) <= 1
     same = mend_slip((starts, ends, truth), loglik, tables, tilt, 50.0, loglik, None, 2.0)
     assert all(a is b for a, b in zip(same, (starts, ends, truth), strict=True))
+
+
+def test_second_pass_holds_the_systolic_interval_to_the_regression_band():
+    # A first decoding that read an inaudible S2 in S1's own tail (S1 onset to S2 onset
+    # 120 ms at 80 bpm, where the Weissler regression expects about 330 ms) must not
+    # teach the second pass that systole: the interval is held to the regression
+    # +/- 60 ms (about 3.5 sd).
+    from eddyphone.rhythm import HeartRateEstimate
+    from eddyphone.segment import _refine, _tables
+
+    cfg, ffs = SegmentConfig(), 50.0
+    period, starts, states = 38, [], []     # 38 frames: 79 bpm
+    for beat in range(15):
+        t = 1 + beat * period
+        starts += [t, t + 5, t + 6, t + 10]
+        states += [0, 1, 2, 3]
+    starts, states = np.array(starts), np.array(states)
+    est = HeartRateEstimate(60.0, systolic_interval_s(60.0)[0], 0.8)  # rate off: refine
+    hr = 60.0 / (period / ffs)
+    low = systolic_interval_s(hr)[0] - 0.06
+    ld, ls = _refine(starts, states, est, ffs, cfg)
+    ld_low, ls_low = _tables(hr, low, 0.0, ffs, cfg)
+    ld_raw, _ = _tables(hr, 6 / ffs, 0.0, ffs, cfg)
+    np.testing.assert_allclose(ld, ld_low)
+    assert ld_raw.shape != ld.shape or not np.allclose(ld, ld_raw)

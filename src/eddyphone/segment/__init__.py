@@ -146,6 +146,11 @@ def _tables(hr: float, sys_s: float, rr_spread_s: float, ffs: float, cfg: Segmen
     return duration_tables(laws, ffs, floor_weight=cfg.duration_floor_weight)
 
 
+#: Half-width of the band around the regression's systolic interval that a first
+#: decoding's own interval is held to (about 3.5 sd of the regression).
+_SYSTOLE_BAND_S = 0.06
+
+
 def _refine(starts, states, est: HeartRateEstimate, ffs: float, cfg: SegmentConfig):
     """Duration tables for a second pass, from the rate, systolic interval and RR
     spread of the first (None when they agree with the first pass's assumptions)."""
@@ -159,6 +164,10 @@ def _refine(starts, states, est: HeartRateEstimate, ffs: float, cfg: SegmentConf
     sys, _ = _intervals(starts, states, ffs)
     sys = sys[sys < 0.8 * rr_mean]
     sys_s = median(sys) if len(sys) else est.systolic_interval_s
+    # A systolic interval far outside the regression band at this rate is a sound
+    # misplaced (an inaudible S2 read in S1's tail), not a physiology to adopt.
+    expected = systolic_interval_s(float(np.clip(hr, 20.0, 250.0)))[0]
+    sys_s = float(np.clip(sys_s, expected - _SYSTOLE_BAND_S, expected + _SYSTOLE_BAND_S))
     if (abs(hr - est.heart_rate_bpm) <= cfg.refine_hr_change * est.heart_rate_bpm
             and cv <= 0.5 * cfg.irregular_rr_cv
             and abs(sys_s - est.systolic_interval_s) <= 0.04):
