@@ -490,7 +490,8 @@ def test_stability_cue_is_not_turned_by_a_few_premature_beats():
     # diastole. Correctly labelled beats at 50 frames/s: systole 15 frames except two
     # premature beats (7 frames), diastole 20 +/- 2 frames. The plain standard
     # deviation of the systoles (0.048 s) exceeds the diastoles' (0.025 s) and would
-    # vote to mirror the labels; the winsorised spreads (10/90 %) do not.
+    # vote to mirror the labels; the robust spread of the beat-to-beat changes
+    # (median absolute deviation) does not.
     from eddyphone.segment.orientation import swap_cues
 
     rng = np.random.default_rng(8)

@@ -7,7 +7,7 @@ Public API
 ----------
 swap_evidence(starts, ends, states, tilt, ffs, loglik=None, signal=None) -> float
 swap_cues(starts, ends, states, tilt, ffs, loglik=None, signal=None) -> dict
-sound_times(starts, ends, states, ffs, signal=None) -> ndarray
+sound_times(starts, ends, ffs, signal=None) -> ndarray
 """
 
 from __future__ import annotations
