@@ -76,9 +76,14 @@ def sound_separation(starts: np.ndarray, ends: np.ndarray, states: np.ndarray,
         sel = states == label
         if np.count_nonzero(sel) < 3:
             return float("inf")
-        rows = [(feats[a:b, 6].mean(), feats[a:b, 3].max(), feats[a:b, 4].max())
-                for a, b in zip(starts[sel], ends[sel], strict=True)]
-        per_label.append(np.array(rows, dtype=float))
+        # per sound: mean pitch tilt, peak low band, peak mid band (reduceat over the
+        # sounds' [start, end) pairs; a padding row lets an end fall on the last frame)
+        padded = np.vstack([feats[:, [6, 3, 4]], np.zeros((1, 3))])
+        bounds = np.column_stack([starts[sel], ends[sel]]).ravel()
+        length = (ends[sel] - starts[sel])[:, None]
+        tilt = np.add.reduceat(padded[:, :1], bounds, axis=0)[::2] / length
+        peaks = np.maximum.reduceat(padded[:, 1:], bounds, axis=0)[::2]
+        per_label.append(np.hstack([tilt, peaks]))
     first, second = per_label
     spread = np.sqrt((first.var(axis=0) + second.var(axis=0)) / 2.0) + 1e-9
     return float(np.max(np.abs(first.mean(axis=0) - second.mean(axis=0)) / spread))
