@@ -397,10 +397,11 @@ def test_s2_onsets_left_alone_when_already_right(name):
 
 def test_continuous_murmur_runs_through_s2():
     # demo 10 (a shunt): the murmur fills the whole cycle, so it barely stands above
-    # the quiet parts; its spill into early diastole, locked to S2, gives it away.
-    # Reference: the simulator's exact segments and its truth (phase continuous,
-    # measured shape crescendo-decrescendo peaking around S2)
-    from eddyphone.findings.murmur import SPILL_T
+    # the quiet parts (late diastole is the murmur itself at its quietest); it fades
+    # across diastole from S2 on, beat by beat. Reference: the simulator's exact
+    # segments and its truth (phase continuous, measured shape crescendo-decrescendo
+    # peaking around S2)
+    from eddyphone.findings.murmur import CONT_DECAY_T, CONT_MAX_RISE_DB
     from eddyphone.simulate import demo_specs
 
     sim = generate(demo_specs()["10_continuous_shunt"])
@@ -414,8 +415,8 @@ def test_continuous_murmur_runs_through_s2():
     assert len(m.profile) == 2 * FindingsConfig().bins_per_window
     assert truth["measured"]["peak_fraction"] < 0.5 and m.peak_fraction < 0.75
     assert f.summary_dict()["murmur_phase"] == "continuous"
-    # the same statistic on a holosystolic leak whose murmur ends inside S2 stays low
-    # (simulator truth: phase systolic)
+    # a holosystolic leak whose murmur ends inside S2 (simulator truth: phase
+    # systolic) stands far over its murmur-free diastole just before S2
     sim2 = generate(demo_specs()["05_systolic_leak"])
     c2 = condition(sim2.x, sim2.fs)
     from eddyphone.findings.measures import beat_profiles, spectrogram
@@ -425,7 +426,13 @@ def test_continuous_murmur_runs_through_s2():
     sp = spectrogram(c2.x, c2.fs)
     s = find_murmurs(sp, beat_profiles(sp, _truth_beats(sim2), cfg), cfg)
     assert s.murmurs[0].phase == sim2.truth["murmur"]["phase"] == "systolic"
-    assert s.through_s2 and s.through_s2["t"] < SPILL_T
+    assert s.through_s2 and s.through_s2["rise_db"] > CONT_MAX_RISE_DB
+    # ... while the shunt's upper bands rise only a few dB over late diastole and fade
+    # across it
+    sp1 = spectrogram(c.x, c.fs)
+    s1 = find_murmurs(sp1, beat_profiles(sp1, _truth_beats(sim), cfg), cfg)
+    assert s1.through_s2["rise_db"] <= CONT_MAX_RISE_DB
+    assert s1.through_s2["decay_t"] <= CONT_DECAY_T
 
 
 def test_faint_murmur_present_from_paired_evidence():
