@@ -85,6 +85,9 @@ class Murmur:
     presystolic_accent : bool
         A diastolic murmur that swells again just before S1 (atrial contraction
         pushing blood through a narrowed inflow valve).
+    uncertain_reason : str
+        Why an 'uncertain' murmur is not called present when its consistency is not
+        the reason (empty otherwise).
     """
 
     id: str
@@ -114,6 +117,7 @@ class Murmur:
     onset_fraction: float = float("nan")
     end_fraction: float = float("nan")
     presystolic_accent: bool = False
+    uncertain_reason: str = ""
 
     @property
     def pitch_text(self) -> str:
@@ -183,6 +187,7 @@ class Murmur:
             "peak_fraction": _r(self.peak_fraction),
             "onset_fraction": _r(self.onset_fraction),
             "presystolic_accent": bool(self.presystolic_accent),
+            "uncertain_reason": self.uncertain_reason,
             "end_fraction": _r(self.end_fraction),
             "beats_with_murmur": int(self.beats_with_murmur),
             "beats_used": int(self.beats_used),
