@@ -29,18 +29,25 @@ MIN_BEATS_PER_SIDE = 5
 Path = tuple[np.ndarray, np.ndarray, np.ndarray]
 
 
+Signal = tuple[np.ndarray, int] | None
+
+
+def _frames(signal: Signal, a: int, b: int) -> Signal:
+    """The samples of frames a..b-1 (``signal`` = samples, samples per frame)."""
+    return None if signal is None else (signal[0][a * signal[1]: b * signal[1]], signal[1])
+
+
 def _evidence(path: Path, lo: int, hi: int, tilt: np.ndarray, ffs: float,
-              shipped: np.ndarray, signal: tuple[np.ndarray, int] | None) -> float:
+              shipped: np.ndarray, signal: Signal) -> float:
     """Orientation vote on the segments lo..hi-1 of ``path`` alone."""
     starts, ends, states = path
     a, b = starts[lo], ends[hi - 1]
-    sig = None if signal is None else (signal[0][a * signal[1]: b * signal[1]], signal[1])
     return swap_evidence(starts[lo:hi] - a, ends[lo:hi] - a, states[lo:hi], tilt[a:b], ffs,
-                         shipped[a:b], sig)
+                         shipped[a:b], _frames(signal, a, b))
 
 
 def _slip_gap(path: Path, tilt: np.ndarray, ffs: float, shipped: np.ndarray,
-              signal: tuple[np.ndarray, int] | None, min_evidence: float) -> int | None:
+              signal: Signal, min_evidence: float) -> int | None:
     """Index of the first segment after the long gap where the two sides' votes
     disagree most (both at least ``min_evidence`` strong), or None."""
     starts, ends, states = path
@@ -68,7 +75,7 @@ def _slip_gap(path: Path, tilt: np.ndarray, ffs: float, shipped: np.ndarray,
 
 
 def _decode_oriented(loglik: np.ndarray, tables, tilt: np.ndarray, ffs: float,
-                     shipped: np.ndarray, signal: tuple[np.ndarray, int] | None) -> Path:
+                     shipped: np.ndarray, signal: Signal) -> Path:
     starts, ends, states, _ = viterbi_cyclic(loglik, *tables)
     if swap_evidence(starts, ends, states, tilt, ffs, shipped, signal) < 0:
         states = (states + 2) % 4
@@ -76,7 +83,7 @@ def _decode_oriented(loglik: np.ndarray, tables, tilt: np.ndarray, ffs: float,
 
 
 def mend_slip(path: Path, loglik: np.ndarray, tables, tilt: np.ndarray, ffs: float,
-              shipped: np.ndarray, signal: tuple[np.ndarray, int] | None,
+              shipped: np.ndarray, signal: Signal,
               min_evidence: float) -> Path:
     """``path`` (oriented as a whole) with a parity slip mended, if there is one.
 
@@ -97,10 +104,9 @@ def mend_slip(path: Path, loglik: np.ndarray, tables, tilt: np.ndarray, ffs: flo
     if j is None:
         return path
     cut = int(path[1][j - 1])
-    hop = None if signal is None else signal[1]
     parts = []
     for a, b in ((0, cut), (cut, len(loglik))):
-        sig = None if signal is None else (signal[0][a * hop: b * hop], hop)
-        s, e, k = _decode_oriented(loglik[a:b], tables, tilt[a:b], ffs, shipped[a:b], sig)
+        s, e, k = _decode_oriented(loglik[a:b], tables, tilt[a:b], ffs, shipped[a:b],
+                                   _frames(signal, a, b))
         parts.append((s + a, e + a, k))
     return tuple(np.concatenate(p) for p in zip(*parts, strict=True))
