@@ -23,7 +23,7 @@ from eddyphone.recording import Recording
 
 #: Version of the JSON output contract. Bump the minor number when keys are
 #: added, the major number when a key changes meaning or disappears.
-SCHEMA_VERSION = "1.0"
+SCHEMA_VERSION = "1.1"
 
 
 @dataclass(frozen=True, eq=False)
