@@ -425,6 +425,7 @@ def test_fast_rhythm_with_a_soft_second_sound_is_not_read_at_half_rate():
     (5, 78, "sinus at 92 bpm, phone, S1 and S2 alike: read at 185 bpm"),
     (9, 58, "sinus at 70 bpm, phone, flow murmur: read at 140 bpm"),
     (7, 115, "sinus at 63 bpm, ejection murmur and S3 in the gaps: read at 126 bpm"),
+    (8, 12, "sinus at 86 bpm, flat, evenly spaced S1 and S2 2 sd apart: read at 172 bpm"),
 ])
 def test_benchmark_cases_once_read_at_half_or_double_rate(draw, case, what):
     # Benchmark cases (simulator draws) that a rule read at the wrong rate before the
