@@ -636,6 +636,15 @@ def _recording_reference(A: np.ndarray) -> np.ndarray:
     return np.maximum(ref, 1e-30)
 
 
+def _one_sample_t(v: np.ndarray) -> float:
+    """Mean over its standard error (t across beats); 0 for fewer than two values or
+    no spread."""
+    if len(v) < 2:
+        return 0.0
+    sd = float(np.std(v, ddof=1))
+    return float(np.mean(v) / (sd / np.sqrt(len(v)))) if sd > 0 else 0.0
+
+
 def _through_s2(R: np.ndarray, bands: list[int], n_bins: int) -> dict:
     """Spill of a systolic murmur (``bands``) into early diastole, per beat: first
     :data:`SPILL_BINS` diastolic bins over the second half of diastole (dB), its mean
@@ -649,18 +658,14 @@ def _through_s2(R: np.ndarray, bands: list[int], n_bins: int) -> dict:
         v = R[:, w][:, bands][:, :, k0:k1].mean(axis=(1, 2))
         return 10.0 * np.log10(np.maximum(v, 1e-30))
 
-    def t_of(v: np.ndarray) -> float:
-        sd = float(np.std(v, ddof=1))
-        return float(np.mean(v) / (sd / np.sqrt(len(v)))) if sd > 0 else 0.0
-
     late = level(DIA, n_bins // 2, n_bins)
     d = level(DIA, 0, SPILL_BINS) - late
     rise = level(SYS, n_bins - SPILL_BINS, n_bins) - late
     course = 10.0 * np.log10(np.maximum(R[:, DIA][:, bands].mean(axis=1), 1e-30))
     x = np.linspace(0.0, 1.0, n_bins)
     slope = np.polyfit(x, course.T, 1)[0]
-    return {"spill_db": float(np.mean(d)), "t": t_of(d), "rise_db": float(np.mean(rise)),
-            "decay_db": float(np.mean(slope)), "decay_t": t_of(slope)}
+    return {"spill_db": float(np.mean(d)), "t": _one_sample_t(d), "rise_db": float(np.mean(rise)),
+            "decay_db": float(np.mean(slope)), "decay_t": _one_sample_t(slope)}
 
 
 def _continues(stat: dict) -> bool:
@@ -779,11 +784,8 @@ def find_murmurs(spec: Spectrogram, prof: Profiles, config: FindingsConfig,
                     / np.maximum(qref, 1e-30), 1e-12)) for k in starts])
             thr = max(NULL_FLOOR_DB, float(np.percentile(null, 90)))
             diff = bdb - null.reshape(len(starts), n_beats).mean(axis=0)
-            sd_diff = float(np.std(diff, ddof=1)) if n_beats > 1 else 0.0
-            evidence[PHASES[c.window]] = {
-                "mean_db": float(np.mean(diff)),
-                "t": float(np.mean(diff) / (sd_diff / np.sqrt(n_beats))) if sd_diff > 0
-                else 0.0}
+            evidence[PHASES[c.window]] = {"mean_db": float(np.mean(diff)),
+                                          "t": _one_sample_t(diff)}
         else:
             thr = cfg.beat_excess_db
         shows = bdb >= thr
