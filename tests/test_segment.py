@@ -351,6 +351,28 @@ def test_doubtful_beat_folded_only_in_irregular_rhythm():
     assert any(s[2] == 3 and s[0] == segs[15][0] and s[1] == segs[19][1] for s in out)
 
 
+def test_weak_last_beat_is_kept_when_the_next_s1_shows_the_interval():
+    """The last whole beat of a stretch, weak, followed by the S1 of a beat the
+    stretch's end cuts: folding it would leave 80 + 80 = 160 frames, about two
+    intervals of this rhythm (median 55), so it is kept as real. Without that S1 no
+    interval can be checked and the weak beat is folded. (Benchmark case 700083,
+    fast irregular rhythm at 28 dB: the last two real beats had been folded, leaving
+    one interval of three beats and a rate 8.5 bpm slow.)"""
+    from eddyphone.segment.support import fold_doubtful_beats
+
+    segs, scores, t = [], [], 0
+    for i, rr in enumerate([40, 70, 30, 55, 35, 60, 45, 80, 80]):
+        for k, d in zip((0, 1, 2, 3), (6, 12, 5, rr - 23), strict=True):
+            segs.append((t, t + d, k))
+            scores.append(0.5 if i == 8 and k in (0, 2) else 0.95)
+            t += d
+    cfg = SegmentConfig()
+    fold = (cfg.doubtful_beat_support, cfg.doubtful_beat_margin, cfg.irregular_rr_cv)
+    cut = segs + [(t, t + 4, 0)]
+    assert fold_doubtful_beats(cut, scores + [0.95], *fold)[0] == cut
+    assert len(fold_doubtful_beats(segs, scores, *fold)[0]) == len(segs) - 4
+
+
 # --- half-rate readings -------------------------------------------------------------
 
 def _pulse_features(n_frames: int, onsets: list[int], tilts: list[float]) -> np.ndarray:

@@ -76,8 +76,7 @@ def fold_doubtful_beats(segs: list[tuple[int, int, int]], scores: list[float],
     # limit while folding both leaves two intervals in one.
     while len(beats) >= 3:
         support = _support(scores, beats)
-        merged = np.full(len(beats), -np.inf)  # beats at the ends of the stretch: no limit
-        merged[1:-1] = (s1_onsets[2:] - s1_onsets[:-2]) / median(np.diff(s1_onsets))
+        merged = _merged_intervals(segs, s1_onsets) / median(np.diff(s1_onsets))
         doubtful = (support < limit) & (merged <= max_merged_rr)
         if not doubtful.any():
             break
@@ -98,6 +97,18 @@ def _beats(segs: list[tuple[int, int, int]]) -> tuple[list[int], np.ndarray]:
     labels = [k for _, _, k in segs]
     beats = [i for i in range(1, len(segs) - 3) if labels[i - 1: i + 4] == [3, 0, 1, 2, 3]]
     return beats, np.array([segs[i][0] for i in beats], dtype=float)
+
+
+def _merged_intervals(segs: list[tuple[int, int, int]], s1_onsets: np.ndarray) -> np.ndarray:
+    """Interval (frames) from the S1 before each whole beat to the S1 after it, counting
+    the S1s of incomplete beats at the stretch's ends; -inf where one side has none
+    (then folding leaves no interval to check)."""
+    every = np.array([a for a, _, k in segs if k == 0], dtype=float)
+    i = np.searchsorted(every, s1_onsets)
+    has_both = (i >= 1) & (i + 1 < len(every))
+    out = np.full(len(s1_onsets), -np.inf)
+    out[has_both] = every[i[has_both] + 1] - every[i[has_both] - 1]
+    return out
 
 
 def _support(scores: list[float], beats: list[int]) -> np.ndarray:
