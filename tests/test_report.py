@@ -228,3 +228,29 @@ def test_report_pitch_row_explains_a_word_the_printed_frequency_would_not_give()
     pitch = dict(murmur_table(m))["Pitch"]
     assert "would read medium" in pitch and "188 Hz" in pitch
     assert not pitch.startswith("low: dominant")
+
+
+def test_timing_and_phase_read_as_clinicians_write_them():
+    # Common practice: "holosystolic", "mid-diastolic"; a continuous murmur runs through
+    # S2 and takes no timing word within one window.
+    from eddyphone.report.text import phase_words
+
+    assert phase_words("holo", "systolic") == "holosystolic"
+    assert phase_words("early", "diastolic") == "early-diastolic"
+    assert phase_words("holo", "continuous") == "continuous"
+    assert phase_words(None, "systolic") == "systolic"
+
+
+def test_continuous_murmur_is_drawn_against_systole_and_diastole(tmp_path):
+    """Demo 10 (a continuous shunt): the one-line summary says 'continuous', not 'holo
+    continuous', and the murmur figure marks S2 in the whole-cycle window with systole
+    before it and diastole after, not the thirds of a systolic window."""
+    shunt = MURMUR_CASE.parent / "10_continuous_shunt.wav"
+    done = _cli("analyze", str(shunt), "--no-report", "--out", str(tmp_path))
+    assert done.returncode == 0, done.stderr
+    assert "; continuous " in done.stdout and "holo continuous" not in done.stdout
+    analysis = eddyphone.analyze(shunt)
+    murmur = analysis.findings.murmurs[0]
+    assert murmur.phase == "continuous"
+    words = {t.get_text() for t in figs.murmur_figure(analysis, murmur).axes[0].texts}
+    assert {"S2", "systole", "diastole"} <= words and "early" not in words

@@ -167,7 +167,10 @@ def _one_line(analysis) -> str:
         "rate not found"
     murmur = s.get("murmur", "uncertain")
     if murmur == "present":
-        words = [s.get(k) for k in ("murmur_timing", "murmur_phase", "murmur_shape")]
+        from eddyphone.report.text import phase_words
+
+        words = [phase_words(s.get("murmur_timing"), s.get("murmur_phase") or ""),
+                 s.get("murmur_shape")]
         murmur = " ".join(w for w in words if w) + " murmur"
         if s.get("murmur_grade_range"):
             murmur += f", grade {s['murmur_grade_range']}"

@@ -33,6 +33,7 @@ from typing import Any
 import numpy as np
 
 from eddyphone.report import palette
+from eddyphone.report.text import phase_words
 
 #: Width in inches of every figure (the text width of an A4 page with margins).
 FIGURE_WIDTH_IN = 7.0
@@ -579,11 +580,7 @@ def murmur_figure(analysis: Any, murmur: Any):
                 side = "left" if pk < 0.1 else ("right" if pk > 0.9 else "center")
                 ax.text(100 * pk, 1.04, " peak ", ha=side,
                         va="bottom", fontsize=7)
-            for third in (100 / 3, 200 / 3):
-                ax.axvline(third, color=palette.GRID, lw=0.8, zorder=0)
-            for k, word in enumerate(("early", "mid", "late")):
-                ax.text((k + 0.5) * 100 / 3, 1.005, word, ha="center", va="bottom",
-                        fontsize=7, color=palette.MUTED, transform=ax.get_xaxis_transform())
+            _window_parts(ax, analysis, murmur.phase)
             ax.set_ylim(0, 1.15)
             ax.set_xlim(0, 100)
         else:
@@ -604,6 +601,29 @@ def murmur_figure(analysis: Any, murmur: Any):
         ax.set_xlabel(label)
         _murmur_spectrum(sp, x, fs, analysis, murmur, windows)
     return fig
+
+
+def _window_parts(ax, analysis: Any, phase: str) -> None:
+    """Mark the parts of a murmur's window on its profile: the thirds (early, mid,
+    late) of a systolic or diastolic window; S2 (its mean position) splitting a
+    continuous murmur's whole-cycle window into systole and diastole."""
+    if phase == "continuous":
+        parts = [(b.s2_onset_s - b.s1_onset_s) / (b.next_s1_onset_s - b.s1_onset_s)
+                 for b in _beats(analysis) if b.next_s1_onset_s is not None]
+        if not parts:
+            return
+        s2 = 100 * float(np.mean(parts))
+        edges, words = (s2,), (("systole", s2 / 2), ("diastole", (s2 + 100) / 2))
+        ax.text(s2, 1.005, "S2", ha="center", va="bottom", fontsize=7, color=palette.INK,
+                transform=ax.get_xaxis_transform())
+    else:
+        edges = (100 / 3, 200 / 3)
+        words = tuple((w, (k + 0.5) * 100 / 3) for k, w in enumerate(("early", "mid", "late")))
+    for edge in edges:
+        ax.axvline(edge, color=palette.GRID, lw=0.8, zorder=0)
+    for word, at in words:
+        ax.text(at, 1.005, word, ha="center", va="bottom", fontsize=7, color=palette.MUTED,
+                transform=ax.get_xaxis_transform())
 
 
 def _murmur_spectrum(ax, x, fs, analysis, murmur, windows) -> None:
@@ -709,10 +729,7 @@ def _finding_titles(analysis: Any) -> dict[str, str]:
 
 def timing_phase(murmur: Any) -> str:
     """Timing and phase in one word as clinicians write them: 'holosystolic', 'mid-diastolic'."""
-    timing, phase = getattr(murmur, "timing", None), murmur.phase
-    if phase == "continuous" or not timing:
-        return phase
-    return f"holo{phase}" if timing == "holo" else f"{timing}-{phase}"
+    return phase_words(getattr(murmur, "timing", None), murmur.phase)
 
 
 def _wrap(text: str, width: int) -> str:

@@ -8,6 +8,7 @@ missing rather than silently left out.
 Public API
 ----------
 headline(analysis) -> list of (label, value)
+phase_words(timing, phase) -> str
 murmur_lines(analysis) -> list of str
 murmur_table(murmur) -> list of (label, value)
 extra_sound_lines(analysis) -> list of str
@@ -86,6 +87,18 @@ def murmur_headline(analysis: Any) -> str:
         return f"{f.presence}" + (f" — {reason}" if reason else "")
     text = m.describe() if hasattr(m, "describe") else f"{m.phase} murmur"
     return f"{f.presence}: {text}"
+
+
+def phase_words(timing: str | None, phase: str) -> str:
+    """Timing and phase as clinicians write them: 'holosystolic', 'mid-diastolic',
+    'continuous' (a continuous murmur has no timing within one window).
+
+    >>> phase_words("holo", "systolic"), phase_words("mid", "diastolic")
+    ('holosystolic', 'mid-diastolic')
+    """
+    if phase == "continuous" or not timing:
+        return phase
+    return f"holo{phase}" if timing == "holo" else f"{timing}-{phase}"
 
 
 def murmur_lines(analysis: Any) -> list[str]:
