@@ -115,11 +115,8 @@ def describe(x: np.ndarray, fs: float, segmentation, *, quality=None,
     elif uncertain:
         m = uncertain[0]
         presence = "uncertain"
-        reason = (f"a {m.phase} excess seen in {m.beats_with_murmur}/{m.beats_used} beats "
-                  f"only (consistency {m.consistency:.0%})")
-        if m.uncertain_reason:
-            reason = (f"a {m.phase} excess in {m.beats_with_murmur}/{m.beats_used} beats, "
-                      f"{m.uncertain_reason}")
+        reason = (f"a {m.phase} excess in {m.beats_with_murmur}/{m.beats_used} beats, "
+                  f"{m.uncertain_reason or f'consistency {m.consistency:.0%}'}")
     else:
         presence = "absent"
         reason = (f"systolic and diastolic windows stay within {cfg.excess_db:g} dB of the "

@@ -929,14 +929,14 @@ def find_murmurs(spec: Spectrogram, prof: Profiles, config: FindingsConfig,
         erratic = (name in evidence and paired < WEAK_PAIRED_T
                    and _jaggedness_db(M[c.window][bands])
                    > max(JAGGED_DB, JAGGED_SHARE * float(c.peak_db)))
-        ok = (consistency >= need and n_beats >= cfg.min_beats_present
-              and level >= cfg.min_present_level_db_re_heart_sounds and not erratic)
         # ... and a diastolic excess confined below LOW_ONLY_HZ is at most 'uncertain'
         low_diastolic = (c.window == DIA
                          and max(spec.bands_hz[b][1] for b in bands) <= LOW_ONLY_HZ)
-        presence = "present" if ok and not low_diastolic else "uncertain"
-        why = (f"confined below {LOW_ONLY_HZ:g} Hz, where S3, S4, breathing and chest-wall "
-               "motion also lie" if ok and low_diastolic else "")
+        why = _uncertain_reason(
+            cfg, consistency=consistency, need=need, n_beats=n_beats, level=level,
+            musical="musical" in words, erratic=erratic, paired_t=paired,
+            low_diastolic=low_diastolic)
+        presence = "uncertain" if why else "present"
         strength = float(np.clip((snr - cfg.excess_db) / 6.0 + 0.5, 0.0, 1.0))
         conf = float(np.clip(0.5 * consistency + 0.5 * strength, 0.0, 1.0))
         if presence == "uncertain":
@@ -963,6 +963,33 @@ def find_murmurs(spec: Spectrogram, prof: Profiles, config: FindingsConfig,
     murmurs.sort(key=lambda m: (m.presence != "present", -m.level_db_re_heart_sounds))
     murmurs = [_with_id(m, f"m{i + 1}") for i, m in enumerate(murmurs)]
     return MurmurSearch(tuple(murmurs), M, tuple(rejected), flags, beat_db, through, evidence)
+
+
+def _uncertain_reason(cfg: FindingsConfig, *, consistency: float, need: float, n_beats: int,
+                      level: float, musical: bool, erratic: bool, paired_t: float,
+                      low_diastolic: bool) -> str:
+    """Why a murmur candidate is 'uncertain' rather than 'present' (empty when present),
+    in the order the rules are checked."""
+    if n_beats < cfg.min_beats_present:
+        return f"only {n_beats} usable beats (need {cfg.min_beats_present} to call it present)"
+    if level < cfg.min_present_level_db_re_heart_sounds:
+        return f"{level:.0f} dB re S1/S2, too faint to call present"
+    if erratic:
+        return (f"neither clear of the same beats' murmur-free bins on average (paired t "
+                f"{paired_t:.1f}) nor a smooth time course: more likely noise not locked "
+                "to the cycle (a voice, friction)")
+    if consistency < need:
+        if level < cfg.faint_level_db_re_heart_sounds and need >= cfg.faint_present_consistency:
+            return (f"consistency {consistency:.0%}: at {level:.0f} dB re S1/S2 a murmur must "
+                    f"show in {need:.0%} of the beats")
+        if musical and need >= cfg.tonal_present_consistency:
+            return (f"consistency {consistency:.0%}: a musical (tonal) excess, more often a "
+                    f"wheeze or a voice, must show in {need:.0%} of the beats")
+        return f"consistency {consistency:.0%} (need {need:.0%})"
+    if low_diastolic:
+        return (f"confined below {LOW_ONLY_HZ:g} Hz, where S3, S4, breathing and chest-wall "
+                "motion also lie")
+    return ""
 
 
 def _with_id(m: Murmur, new_id: str) -> Murmur:

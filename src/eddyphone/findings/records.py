@@ -86,8 +86,8 @@ class Murmur:
         A diastolic murmur that swells again just before S1 (atrial contraction
         pushing blood through a narrowed inflow valve).
     uncertain_reason : str
-        Why an 'uncertain' murmur is not called present when its consistency is not
-        the reason (empty otherwise).
+        Why an 'uncertain' murmur is not called present (the rule that decided, with
+        its numbers); empty for a present murmur.
     """
 
     id: str
