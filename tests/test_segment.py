@@ -660,3 +660,38 @@ def test_second_pass_holds_the_systolic_interval_to_the_regression_band():
     ld_raw, _ = _tables(hr, 6 / ffs, 0.0, ffs, cfg)
     np.testing.assert_allclose(ld, ld_low)
     assert ld_raw.shape != ld.shape or not np.allclose(ld, ld_raw)
+
+
+def test_quiet_beat_folded_when_its_sounds_are_far_softer_than_the_rhythms():
+    """An irregular rhythm whose beats all have full frame support, one of them with
+    sounds 10 dB softer than the others (a breath or faint rub read as a beat in a
+    long diastole): given the samples it is folded when that leaves at most 2 median
+    intervals, and kept when it would leave more (then it is more likely a real,
+    weak beat). Without the samples only the support decides, and all are kept."""
+    from eddyphone.segment.support import fold_doubtful_beats
+
+    hop, rng = 80, np.random.default_rng(7)
+
+    def stretch(quiet: int) -> tuple[list, list, np.ndarray]:
+        segs, t = [], 0
+        x = 0.01 * rng.standard_normal(600 * hop)
+        for i, rr in enumerate([40, 70, 30, 55, 80, 35, 60, 45, 50]):
+            for k, d in zip((0, 1, 2, 3), (6, 12, 5, rr - 23), strict=True):
+                segs.append((t, t + d, k))
+                if k in (0, 2):
+                    gain = 10 ** (-10 / 20) if i == quiet else 1.0
+                    x[t * hop:(t + d) * hop] += gain * rng.standard_normal(d * hop)
+                t += d
+        return segs, [0.95] * len(segs), x[: t * hop]
+
+    cfg = SegmentConfig()
+    fold = (cfg.doubtful_beat_support, cfg.doubtful_beat_margin, cfg.irregular_rr_cv)
+    # beat 3 sits between intervals of 30 and 55 frames (median 50): folding leaves 1.7
+    segs, scores, x = stretch(quiet=3)
+    assert fold_doubtful_beats(segs, scores, *fold)[0] == segs
+    out = fold_doubtful_beats(segs, scores, *fold, signal=(x, hop))[0]
+    assert len(out) == len(segs) - 4
+    assert any(s[2] == 3 and s[0] == segs[11][0] and s[1] == segs[15][1] for s in out)
+    # beat 5 sits between 80 and 35 frames: folding would leave 2.3 intervals
+    segs, scores, x = stretch(quiet=5)
+    assert fold_doubtful_beats(segs, scores, *fold, signal=(x, hop))[0] == segs

@@ -424,7 +424,10 @@ def segment(x: np.ndarray, fs: float, *, quality=None,
         segs, seg_scores = fold_doubtful_beats(segs, segment_support(segs, sound, a),
                                                cfg.doubtful_beat_support,
                                                cfg.doubtful_beat_margin, cfg.irregular_rr_cv,
-                                               cfg.doubtful_beat_max_merged_rr)
+                                               cfg.doubtful_beat_max_merged_rr,
+                                               signal=(x, hop),
+                                               quiet_db=cfg.doubtful_beat_quiet_db,
+                                               quiet_max_merged_rr=cfg.doubtful_quiet_max_merged_rr)
         segments.extend(Segment(s / ffs, e / ffs, STATES[k]) for s, e, k in segs)
         scores.extend(seg_scores)
 

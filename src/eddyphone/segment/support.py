@@ -34,7 +34,9 @@ def segment_support(segs: list[tuple[int, int, int]], sound: np.ndarray, a: int
 
 def fold_doubtful_beats(segs: list[tuple[int, int, int]], scores: list[float],
                         max_support: float, margin: float, irregular_cv: float,
-                        max_merged_rr: float = 1.6,
+                        max_merged_rr: float = 1.6, *,
+                        signal: tuple[np.ndarray, int] | None = None,
+                        quiet_db: float = 6.0, quiet_max_merged_rr: float = 2.0,
                         ) -> tuple[list[tuple[int, int, int]], list[float]]:
     """Fold weakly supported beats of an irregular rhythm into the diastole around them.
 
@@ -53,12 +55,26 @@ def fold_doubtful_beats(segs: list[tuple[int, int, int]], scores: list[float],
     are folded one at a time, the least supported first, and the interval limit is
     checked again after each fold.
 
+    Given the samples (``signal``), a beat whose louder sound is more than
+    ``quiet_db`` below the median beat's (mean power over the sound's frames) is
+    doubtful too, whatever its support, when folding it leaves at most
+    ``quiet_max_merged_rr`` median RR: a breath or a faint rub in a long diastole of
+    atrial fibrillation is read as a beat with typical durations and fair frame
+    support, but it is far softer than the rhythm's heart sounds. On the eight default
+    benchmark draws this took the heart rate within 2 bpm from 910 to 915 of 960
+    recordings with none lost (one more on draws 2 and 4, none lost); 5 and 8 dB
+    gained 7 (two recordings' errors grew) and 1.
+
     Parameters
     ----------
     segs : list of (start frame, end frame, state)
         One decoded stretch, in time order.
     scores : list of float
         :func:`segment_support` of each segment.
+
+    signal : (samples, hop), optional
+        The samples the frames were cut from, ``hop`` per frame; without them only
+        the support decides.
 
     Returns
     -------
@@ -71,6 +87,7 @@ def fold_doubtful_beats(segs: list[tuple[int, int, int]], scores: list[float],
     if not rr_statistics(np.diff(s1_onsets), irregular_cv=irregular_cv)[2]:
         return segs, scores
     limit = min(max_support, median(_support(scores, beats)) - margin)
+    power = _frame_power_cumsum(*signal, segs[-1][1]) if signal is not None else None
     # One beat at a time, the least supported first: two doubtful beats side by side
     # (a real beat and a sound read as one just after it) may each pass the interval
     # limit while folding both leaves two intervals in one.
@@ -78,6 +95,9 @@ def fold_doubtful_beats(segs: list[tuple[int, int, int]], scores: list[float],
         support = _support(scores, beats)
         merged = _merged_intervals(segs, s1_onsets) / median(np.diff(s1_onsets))
         doubtful = (support < limit) & (merged <= max_merged_rr)
+        if power is not None:
+            loud = _beat_loudness_db(segs, beats, power)
+            doubtful |= (loud < median(loud) - quiet_db) & (merged <= quiet_max_merged_rr)
         if not doubtful.any():
             break
         i = beats[int(np.argmin(np.where(doubtful, support, np.inf)))]
@@ -97,6 +117,24 @@ def _beats(segs: list[tuple[int, int, int]]) -> tuple[list[int], np.ndarray]:
     labels = [k for _, _, k in segs]
     beats = [i for i in range(1, len(segs) - 3) if labels[i - 1: i + 4] == [3, 0, 1, 2, 3]]
     return beats, np.array([segs[i][0] for i in beats], dtype=float)
+
+
+def _frame_power_cumsum(x: np.ndarray, hop: int, n_frames: int) -> np.ndarray:
+    """Cumulative sum of the mean power of frames 0..n_frames-1 (``hop`` samples each),
+    with a leading zero."""
+    frames = np.asarray(x[: n_frames * hop], dtype=np.float64).reshape(n_frames, hop)
+    return np.concatenate([[0.0], np.cumsum(np.mean(frames ** 2, axis=1))])
+
+
+def _beat_loudness_db(segs: list[tuple[int, int, int]], beats: list[int],
+                      cum: np.ndarray) -> np.ndarray:
+    """Level (dB) of the louder of each beat's S1 and S2 (mean power of their frames,
+    from :func:`_frame_power_cumsum`)."""
+    def level(k: int) -> float:
+        a, b = segs[k][0], segs[k][1]
+        return (cum[b] - cum[a]) / max(b - a, 1)
+
+    return np.array([10 * np.log10(max(level(i), level(i + 2)) + 1e-20) for i in beats])
 
 
 def _merged_intervals(segs: list[tuple[int, int, int]], s1_onsets: np.ndarray) -> np.ndarray:
