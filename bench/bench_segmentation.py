@@ -252,14 +252,20 @@ def speed() -> None:
                     ("  of which envelopes", t_env)):
         print(f"  {name}: {1e3 * t:.2f} ms = {t / t_base:.1f} x baseline")
     seg_path = t_load + t_cond + t_qual + t_seg
-    print(f"  load + condition + quality + segmentation: {1e3 * seg_path:.2f} ms = "
-          f"{seg_path / t_base:.1f} x baseline (target <= 10 x), {20.0 / seg_path:.0f} x "
-          "real time (target >= 1000 x)")
+    print(f"  sum of the stages above: {1e3 * seg_path:.2f} ms = {seg_path / t_base:.1f} x "
+          "baseline (where the time goes; each stage's fastest run is set against the "
+          "baseline's, timed at other moments, so this is not the target's measure)")
+    # The target's measure: the whole path and the baseline timed back to back, 25 times,
+    # in the same run; the median of the pairs' ratios (each pair sees one state of a
+    # shared machine).
     base_min, path_min = pairs_arr.min(axis=0)
-    print(f"  the same path timed in alternation with the baseline (25 pairs): fastest "
-          f"{1e3 * path_min:.2f} ms against {1e3 * base_min:.2f} ms = {path_min / base_min:.1f} x "
-          f"(median of the pairs' ratios {np.median(pairs_arr[:, 1] / pairs_arr[:, 0]):.1f} x; "
-          f"target <= 10 x), {20.0 / path_min:.0f} x real time (target >= 1000 x)")
+    ratio = float(np.median(pairs_arr[:, 1] / pairs_arr[:, 0]))
+    rate = 20.0 / float(np.median(pairs_arr[:, 1]))
+    print(f"  load + condition + quality + segmentation, timed in alternation with the "
+          f"baseline (25 pairs): median ratio {ratio:.1f} x (target <= 10 x: "
+          f"{'met' if ratio <= 10 else 'NOT met'}; fastest of each {1e3 * path_min:.2f} ms "
+          f"against {1e3 * base_min:.2f} ms = {path_min / base_min:.1f} x), {rate:.0f} x real "
+          f"time at the median (target >= 1000 x: {'met' if rate >= 1000 else 'NOT met'})")
     print(f"  full eddyphone.analyze (with findings and explanation): {1e3 * t_full:.1f} ms = "
           f"{t_full / t_base:.1f} x baseline, {20.0 / t_full:.0f} x real time")
 
