@@ -701,13 +701,14 @@ def test_quiet_beat_folded_when_its_sounds_are_far_softer_than_the_rhythms():
     (7, 62, 153.8),  # irregular at 162 bpm, steep tilt, 28 dB: last two beats folded
     (7, 4, 102.6),   # irregular at 98 bpm, steep tilt, 29 dB: a faint sound read as a beat
     (6, 46, 80.5),   # irregular at 76 bpm, diaphragm, 7 dB: the same
+    (3, 17, 86.9),   # irregular at 83 bpm, flat, 6 dB: an S1 absorbed into a long S2
 ])
 def test_benchmark_irregular_rates_once_a_beat_off(draw, case, before):
     # Benchmark cases (simulator draws) of atrial fibrillation whose rate was one beat
     # off (``before``, bpm) until the fold of doubtful beats took the S1 after a
     # stretch's last beat into account and folded beats far softer than the rhythm's
-    # heart sounds. Reference: the simulator's truth (60 / mean RR of its whole beats);
-    # the target is within 2 bpm.
+    # heart sounds, and S2 was held to 3 sd over its mean duration. Reference: the
+    # simulator's truth (60 / mean RR of its whole beats); the target is within 2 bpm.
     from eddyphone.simulate import benchmark_specs
 
     sim, seg = _run(benchmark_specs(120, seed=draw)[case])
