@@ -427,7 +427,7 @@ def segment(x: np.ndarray, fs: float, *, quality=None,
                                                cfg.doubtful_beat_max_merged_rr,
                                                signal=(x, hop),
                                                quiet_db=cfg.doubtful_beat_quiet_db,
-                                               quiet_max_merged_rr=cfg.doubtful_quiet_max_merged_rr)
+                                               quiet_max_merged_rr=cfg.doubtful_beat_quiet_merged_rr)
         segments.extend(Segment(s / ffs, e / ffs, STATES[k]) for s, e, k in segs)
         scores.extend(seg_scores)
 

@@ -55,11 +55,11 @@ class SegmentConfig:
         ``doubtful_beat_margin`` below the median beat is folded into the diastole,
         unless that would leave an interval longer than ``doubtful_beat_max_merged_rr``
         median RR (then the beat is more likely real and weak).
-    doubtful_beat_quiet_db, doubtful_quiet_max_merged_rr : float
+    doubtful_beat_quiet_db, doubtful_beat_quiet_merged_rr : float
         A beat of an irregular rhythm whose louder sound (S1 or S2, mean power) is more
         than ``doubtful_beat_quiet_db`` below the median beat's is folded the same way,
         whatever its frame support, unless that would leave an interval longer than
-        ``doubtful_quiet_max_merged_rr`` median RR.
+        ``doubtful_beat_quiet_merged_rr`` median RR.
     emission_model : str or None
         Path of an emission model JSON; None uses the shipped model.
     missed_sound_cost : float
@@ -99,7 +99,7 @@ class SegmentConfig:
     doubtful_beat_margin: float = 0.15
     doubtful_beat_max_merged_rr: float = 1.6
     doubtful_beat_quiet_db: float = 6.0
-    doubtful_quiet_max_merged_rr: float = 2.0
+    doubtful_beat_quiet_merged_rr: float = 2.0
     emission_model: str | None = None
     missed_sound_cost: float = 0.3
     half_rate_margin: float = 0.15

@@ -71,7 +71,6 @@ def fold_doubtful_beats(segs: list[tuple[int, int, int]], scores: list[float],
         One decoded stretch, in time order.
     scores : list of float
         :func:`segment_support` of each segment.
-
     signal : (samples, hop), optional
         The samples the frames were cut from, ``hop`` per frame; without them only
         the support decides.
