@@ -171,3 +171,14 @@ def test_detections_outside_the_annotated_span():
     everything = evaluate_events(REF, det, tolerance_ms=60, within_reference=False)
     assert everything.scores["S1"].false_positives == 3
     assert everything.scores["S2"].false_positives == 1
+
+
+def test_murmur_rows_past_the_annotated_cycles_do_not_widen_the_span():
+    # A reference file that also marks a murmur running on after the last annotated
+    # beat (as the simulator's truth CSV does up to the recording's end): a detected
+    # sound there lies outside the annotated cycles and is neither right nor wrong.
+    ref = REF + [(3.40, 5.50, "murmur"), (0.10, 0.90, "murmur")]
+    det = DET + [(0.2, 0.3, "S1"), (5.0, 5.1, "S2")]
+    ev = evaluate_events(ref, det, tolerance_ms=60)
+    assert ev.scores["S1"].false_positives == 2  # as without the murmur rows
+    assert ev.scores["S2"].false_positives == 0  # the murmur rows reach 5.5 s

@@ -199,6 +199,10 @@ class EventEvaluation:
         }
 
 
+#: The labels of the heart cycle; the annotated span is where they were marked.
+_CYCLE_LABELS = frozenset({"S1", "systole", "S2", "diastole"})
+
+
 def evaluate_events(reference: Sequence[Interval], detected: Sequence[Interval], *,
                     tolerance_ms: float = 60.0, labels: Sequence[str] = ("S1", "S2"),
                     within_reference: bool = True) -> EventEvaluation:
@@ -214,8 +218,10 @@ def evaluate_events(reference: Sequence[Interval], detected: Sequence[Interval],
         Labels scored.
     within_reference : bool
         Score only detections whose centre lies inside the annotated span (first
-        reference start to last reference end): sounds outside what an annotator
-        marked are neither right nor wrong.
+        reference start to last reference end of the cycle labels S1, systole, S2,
+        diastole, or of every interval when there are none): sounds outside what an
+        annotator marked are neither right nor wrong. Murmur or extra-sound rows that
+        run past the annotated cycles do not widen it.
 
     Returns
     -------
@@ -233,8 +239,9 @@ def evaluate_events(reference: Sequence[Interval], detected: Sequence[Interval],
         raise ParameterError(f"tolerance_ms={tolerance_ms!r} must be a non-negative number")
     tol = tolerance_ms / 1000.0
     if within_reference and reference:
-        lo = min(s for s, _, _ in reference)
-        hi = max(e for _, e, _ in reference)
+        cycle = [r for r in reference if r[2] in _CYCLE_LABELS] or list(reference)
+        lo = min(s for s, _, _ in cycle)
+        hi = max(e for _, e, _ in cycle)
         detected = [d for d in detected if lo <= 0.5 * (d[0] + d[1]) <= hi]
     scores: dict[str, EventScores] = {}
     errors = {}
