@@ -86,7 +86,7 @@ def fold_doubtful_beats(segs: list[tuple[int, int, int]], scores: list[float],
     if not rr_statistics(np.diff(s1_onsets), irregular_cv=irregular_cv)[2]:
         return segs, scores
     limit = min(max_support, median(_support(scores, beats)) - margin)
-    power = _frame_power_cumsum(*signal, segs[-1][1]) if signal is not None else None
+    power = _frame_power_cumsum(*signal, segs[0][0], segs[-1][1]) if signal else None
     # One beat at a time, the least supported first: two doubtful beats side by side
     # (a real beat and a sound read as one just after it) may each pass the interval
     # limit while folding both leaves two intervals in one.
@@ -118,19 +118,23 @@ def _beats(segs: list[tuple[int, int, int]]) -> tuple[list[int], np.ndarray]:
     return beats, np.array([segs[i][0] for i in beats], dtype=float)
 
 
-def _frame_power_cumsum(x: np.ndarray, hop: int, n_frames: int) -> np.ndarray:
-    """Cumulative sum of the mean power of frames 0..n_frames-1 (``hop`` samples each),
-    with a leading zero."""
-    frames = np.asarray(x[: n_frames * hop], dtype=np.float64).reshape(n_frames, hop)
-    return np.concatenate([[0.0], np.cumsum(np.mean(frames ** 2, axis=1))])
+def _frame_power_cumsum(x: np.ndarray, hop: int, first: int, last: int
+                        ) -> tuple[np.ndarray, int]:
+    """Cumulative sum of the mean power of frames first..last-1 (``hop`` samples each),
+    with a leading zero, and ``first`` (the frame its index 0 stands for): only the
+    stretch's own frames, not the recording's from its start."""
+    frames = np.asarray(x[first * hop: last * hop], dtype=np.float64).reshape(-1, hop)
+    return np.concatenate([[0.0], np.cumsum(np.mean(frames ** 2, axis=1))]), first
 
 
 def _beat_loudness_db(segs: list[tuple[int, int, int]], beats: list[int],
-                      cum: np.ndarray) -> np.ndarray:
+                      power: tuple[np.ndarray, int]) -> np.ndarray:
     """Level (dB) of the louder of each beat's S1 and S2 (mean power of their frames,
     from :func:`_frame_power_cumsum`)."""
+    cum, first = power
+
     def level(k: int) -> float:
-        a, b = segs[k][0], segs[k][1]
+        a, b = segs[k][0] - first, segs[k][1] - first
         return (cum[b] - cum[a]) / max(b - a, 1)
 
     return np.array([10 * np.log10(max(level(i), level(i + 2)) + 1e-20) for i in beats])
