@@ -116,6 +116,8 @@ def test_a_recording_without_heart_sounds_gives_nulls_not_nan(tmp_path):
     assert data["summary"]["heart_rate_bpm"] is None
     assert data["summary"]["murmur"] == "uncertain"
     assert data["quality"]["score"] < 0.2 and data["skipped"]
+    # the one-line summary names no cause when no beat could be used
+    assert "causes not ranked" in result.stdout and "most likely" not in result.stdout
 
 
 def test_patient_view_writes_a_patient_summary(tmp_path):

@@ -177,7 +177,13 @@ def _one_line(analysis) -> str:
     else:
         murmur = f"murmur {murmur}"
     top = s.get("top_mechanism")
-    tail = f"; most likely: {top.replace('_', ' ')} ({s['top_mechanism_score']:.2f})" if top else ""
+    if not s.get("beats"):
+        # nothing was heard to rank causes on: say so rather than name a cause
+        tail = "; no usable beats, causes not ranked (record again)"
+    elif top:
+        tail = f"; most likely: {top.replace('_', ' ')} ({s['top_mechanism_score']:.2f})"
+    else:
+        tail = ""
     return f"{analysis.recording.source}: {rate}; quality {s['quality_score']:.2f}; {murmur}{tail}"
 
 
