@@ -791,3 +791,21 @@ def test_uncertain_murmur_names_the_rule_that_held_it_back():
     assert f.presence == "uncertain", f.presence_reason
     assert "must show in 85%" in f.presence_reason
     assert f.main().uncertain_reason in f.presence_reason
+
+
+def test_murmur_free_diastolic_excess_in_60_percent_of_beats_is_not_present():
+    # A benchmark recording (simulator truth: no murmur; 90 bpm, steep tilt, heavy
+    # breathing) whose diastoles show an excess in 12 of 20 beats: the ordinary 60 %
+    # would call it present; a diastolic murmur must show in 65 %
+    # (FindingsConfig.diastolic_present_consistency, our own rule) and the line says so.
+    from eddyphone.simulate import benchmark_specs
+
+    spec = next(s for s in benchmark_specs(600, seed=2) if s.seed == 200526)
+    sim, f = _findings(spec)
+    assert sim.truth["murmur"]["present"] is False
+    assert f.presence == "uncertain", f.presence_reason
+    assert "a diastolic excess must show in 65%" in f.presence_reason
+    c = condition(sim.x, sim.fs)
+    old = describe(c.x, c.fs, _truth_beats(sim),
+                   config=FindingsConfig(diastolic_present_consistency=0.6))
+    assert old.presence == "present"

@@ -45,6 +45,7 @@ quality_words(...) -> tuple of str
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -916,6 +917,8 @@ def find_murmurs(spec: Spectrogram, prof: Profiles, config: FindingsConfig,
         # be seen in more of the beats before it is called present
         need = (cfg.tonal_present_consistency if "musical" in words
                 else cfg.present_consistency)
+        if c.window == DIA:
+            need = max(need, cfg.diastolic_present_consistency)
         # ... or, not tonal, stand clear of the same beats' null on average even when
         # single beats are too noisy to show it (paired t across beats)
         paired = evidence.get(name, {}).get("t", 0.0)
@@ -935,7 +938,7 @@ def find_murmurs(spec: Spectrogram, prof: Profiles, config: FindingsConfig,
         why = _uncertain_reason(
             cfg, consistency=consistency, need=need, n_beats=n_beats, level=level,
             musical="musical" in words, erratic=erratic, paired_t=paired,
-            low_diastolic=low_diastolic)
+            low_diastolic=low_diastolic, diastolic=c.window == DIA)
         presence = "uncertain" if why else "present"
         strength = float(np.clip((snr - cfg.excess_db) / 6.0 + 0.5, 0.0, 1.0))
         conf = float(np.clip(0.5 * consistency + 0.5 * strength, 0.0, 1.0))
@@ -967,9 +970,10 @@ def find_murmurs(spec: Spectrogram, prof: Profiles, config: FindingsConfig,
 
 def _uncertain_reason(cfg: FindingsConfig, *, consistency: float, need: float, n_beats: int,
                       level: float, musical: bool, erratic: bool, paired_t: float,
-                      low_diastolic: bool) -> str:
+                      low_diastolic: bool, diastolic: bool = False) -> str:
     """Why a murmur candidate is 'uncertain' rather than 'present' (empty when present),
     in the order the rules are checked."""
+    seen = f"{math.floor(100.0 * consistency):.0f}%"  # never "65% (need 65%)" by rounding
     if n_beats < cfg.min_beats_present:
         return f"only {n_beats} usable beats (need {cfg.min_beats_present} to call it present)"
     if level < cfg.min_present_level_db_re_heart_sounds:
@@ -980,12 +984,15 @@ def _uncertain_reason(cfg: FindingsConfig, *, consistency: float, need: float, n
                 "to the cycle (a voice, friction)")
     if consistency < need:
         if level < cfg.faint_level_db_re_heart_sounds and need >= cfg.faint_present_consistency:
-            return (f"consistency {consistency:.0%}: at {level:.0f} dB re S1/S2 a murmur must "
+            return (f"consistency {seen}: at {level:.0f} dB re S1/S2 a murmur must "
                     f"show in {need:.0%} of the beats")
         if musical and need >= cfg.tonal_present_consistency:
-            return (f"consistency {consistency:.0%}: a musical (tonal) excess, more often a "
+            return (f"consistency {seen}: a musical (tonal) excess, more often a "
                     f"wheeze or a voice, must show in {need:.0%} of the beats")
-        return f"consistency {consistency:.0%} (need {need:.0%})"
+        if diastolic and need >= cfg.diastolic_present_consistency > cfg.present_consistency:
+            return (f"consistency {seen}: a diastolic excess must show in "
+                    f"{need:.0%} of the beats")
+        return f"consistency {seen} (need {need:.0%})"
     if low_diastolic:
         return (f"confined below {LOW_ONLY_HZ:g} Hz, where S3, S4, breathing and chest-wall "
                 "motion also lie")
