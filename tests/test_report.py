@@ -254,3 +254,18 @@ def test_continuous_murmur_is_drawn_against_systole_and_diastole(tmp_path):
     assert murmur.phase == "continuous"
     words = {t.get_text() for t in figs.murmur_figure(analysis, murmur).axes[0].texts}
     assert {"S2", "systole", "diastole"} <= words and "early" not in words
+
+
+def test_murmur_profile_is_shaded_only_where_the_murmur_runs():
+    """The murmur figure draws the whole window's course but shades only the murmur's
+    extent (onset to end), so a louder sound elsewhere in the window (an S2 tail, an
+    S4) is not drawn as the murmur and the dashed peak line sits on the shaded part."""
+    from dataclasses import replace
+
+    analysis = eddyphone.analyze(MURMUR_CASE.parent / "03_older_adult_outflow.wav")
+    murmur = replace(analysis.findings.murmurs[0], onset_fraction=0.4, end_fraction=0.8)
+    ax = figs.murmur_figure(analysis, murmur).axes[0]
+    xs = np.concatenate([p.vertices[:, 0] for c in ax.collections for p in c.get_paths()])
+    assert xs.size and xs.min() >= 40.0 - 1e-6 and xs.max() <= 80.0 + 1e-6
+    line = ax.lines[0].get_xdata()
+    assert line.min() < 40.0 and line.max() > 80.0  # the course runs across the window

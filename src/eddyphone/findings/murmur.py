@@ -63,8 +63,6 @@ from eddyphone.findings.records import GRADE_NOTE, Murmur
 
 PHASES = ("systolic", "diastolic")
 
-SHAPE_OVER_WINDOW = True
-
 #: Fraction trimmed from each end when averaging over beats: the interquartile mean,
 #: which ignores friction bursts, crackles and other sounds not locked to the cycle
 #: unless they hit the same place in most beats.
@@ -232,8 +230,7 @@ def shape_word(profile_db: np.ndarray, positions: np.ndarray | None = None
     mid = p[(x >= 0.2) & (x <= 0.8)]
     if len(mid) == 0:
         mid = p
-    k = int(np.argmax(p))
-    pos = _peak_position(p, x, k)
+    pos = _peak_position(p, x, int(np.argmax(p)))
     if mid.min() >= -4.0:
         return "plateau", float(np.clip((mid.min() + 6.0) / 6.0, 0.3, 1.0))
     drop = float(-mid.min())
@@ -842,8 +839,6 @@ def find_murmurs(spec: Spectrogram, prof: Profiles, config: FindingsConfig,
                 dia_w = trimmed_mean(excess_beats[use][:, DIA], 0.15)
                 spill_profile = tuple(float(v) for v in np.concatenate([prof_w, dia_w])
                                       / max(float(prof_w.max()), 1e-30))
-        seg = full[c.k0:c.k1]
-        seg_db = 10.0 * np.log10(np.maximum(seg / max(seg.max(), 1e-30), 1e-6))
         # extent: the active run, limited to where the murmur is within
         # EXTENT_DB of its peak (a loud murmur's faint edges do not make it longer)
         onset, end = _extent(full, c.k0, c.k1, EXTENT_DB)
@@ -878,9 +873,11 @@ def find_murmurs(spec: Spectrogram, prof: Profiles, config: FindingsConfig,
         centres = (np.arange(n_bins) + 0.5) / n_bins
         if length > 0:
             centres = (g + centres * length) / (length + 2.0 * g)
-        shape, s_conf = shape_word(full_db if SHAPE_OVER_WINDOW else seg_db,
-                                   centres if SHAPE_OVER_WINDOW else None)
-        peak_frac = float(centres[c.k0 + int(np.argmax(seg))])
+        # the shape is the loudness course across the whole window
+        shape, s_conf = shape_word(full_db, centres)
+        # the murmur's own peak: the loudest bin of its active run (the whole window's
+        # profile can peak on another sound, such as an S4 at its end)
+        peak_frac = float(centres[c.k0 + int(np.argmax(full[c.k0:c.k1]))])
         # level: peak excess power per beat (all bands) re the louder of S1 and S2
         peak_pow = excess_beats[use][:, c.window, c.k0:c.k1].max(axis=1)
         level = 10.0 * np.log10(max(float(np.median(peak_pow)), 1e-30)

@@ -549,7 +549,8 @@ def profile_positions(n_bins: int, phase: str, window_ms: float | None,
 
     The findings stage measures the profile over the window less a guard of
     ``guard_s`` at each end and states ``peak_fraction`` on the full window; the
-    bins are placed the same way so the peak marker falls on the profile's peak.
+    bins are placed the same way so the peak marker falls on the profile's peak
+    within the murmur's extent.
     """
     centres = (np.arange(n_bins) + 0.5) / n_bins
     if phase == "continuous" or not window_ms or guard_s <= 0:
@@ -572,7 +573,15 @@ def murmur_figure(analysis: Any, murmur: Any):
             pos = profile_positions(profile.size, murmur.phase, mean_ms,
                                     _guard_s(analysis))
             top = float(profile.max()) or 1.0
-            ax.fill_between(pos, 0, profile / top, color=palette.ACCENT, alpha=0.25, lw=0)
+            # shaded: the murmur's own extent; the line runs across the whole window,
+            # where another sound (an S2 tail, an S4) can stand higher than the murmur
+            on = 100 * float(getattr(murmur, "onset_fraction", 0.0) or 0.0)
+            off = 100 * float(getattr(murmur, "end_fraction", 1.0) or 1.0)
+            inside = (pos >= on - 1e-9) & (pos <= off + 1e-9)
+            if murmur.phase == "continuous" or inside.sum() < 2:
+                inside = np.ones_like(pos, dtype=bool)
+            ax.fill_between(pos, 0, profile / top, where=inside, color=palette.ACCENT,
+                            alpha=0.25, lw=0)
             ax.plot(pos, profile / top, color=palette.ACCENT, lw=1.6)
             pk = getattr(murmur, "peak_fraction", None)
             if pk is not None:

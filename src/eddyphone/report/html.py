@@ -207,7 +207,8 @@ def _findings(analysis: Any, figures: Mapping[str, bytes]) -> str:
         png = figures.get(f"murmur-{m.id}")
         if png is not None:
             parts.append(_figure(f"murmur-{m.id}", png,
-                                 f"{m.id}: envelope across its window (left) and the spectrum "
+                                 f"{m.id}: envelope across its window (left; shaded where the "
+                                 "murmur runs, the dashed line at its peak) and the spectrum "
                                  "of its windows against the other phase (right)."))
         parts.append("</div>")
     extras = text.extra_sound_lines(analysis)

@@ -244,8 +244,8 @@ def write_pdf(analysis: Any, path: str | Path, *, figures: Mapping[str, bytes]) 
                 pages.image(figures[k], caption=FIGURE_CAPTIONS[k])
         for name, png in figures.items():
             if name.startswith("murmur-"):
-                pages.image(png, caption=f"{name[7:]}: envelope across its window and the "
-                            "spectrum of its windows.")
+                pages.image(png, caption=f"{name[7:]}: envelope across its window (shaded "
+                            "where the murmur runs) and the spectrum of its windows.")
         pages.heading("4  Likely mechanisms and their physics")
         if analysis.explanation is None:
             pages.paragraph(text.MISSING_EXPLANATION, colour=palette.MUTED)
