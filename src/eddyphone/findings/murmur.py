@@ -675,6 +675,131 @@ def _continues(stat: dict) -> bool:
                            and stat["decay_t"] <= CONT_DECAY_T)
 
 
+def _beat_evidence(R: np.ndarray, M: np.ndarray, c: _Candidate, quiet: np.ndarray,
+                   cfg: FindingsConfig) -> tuple[np.ndarray, np.ndarray, float, dict | None]:
+    """Which beats show candidate ``c``: each beat's excess over its murmur bins (dB,
+    re the same beat's quiet bins), the beats that show it, the consistency, and the
+    paired comparison with the same beats' null (``mean_db``, ``t``; None without a
+    null)."""
+    n_beats, n_bins = R.shape[0], R.shape[3]
+    bands = list(c.bands)
+    act = R[:, c.window][:, bands][:, :, c.k0:c.k1].mean(axis=(1, 2))
+    q = np.concatenate([R[:, ww][:, bands][:, :, quiet[ww]] for ww in (SYS, DIA)],
+                       axis=2)
+    qref = q.mean(axis=(1, 2)) if q.shape[2] else np.ones(n_beats)
+    bdb = 10.0 * np.log10(np.maximum(act / np.maximum(qref, 1e-30), 1e-12))
+    # null: the same statistic over runs of the same length in the other window's
+    # quiet bins (where no murmur is); a beat shows the murmur when it beats 90 %
+    # of that null
+    other = DIA if c.window == SYS else SYS
+    width = c.k1 - c.k0
+    ok = M[other][bands].max(axis=0) < cfg.excess_db / 2.0
+    starts = [k for k in range(n_bins - width + 1) if ok[k:k + width].all()]
+    if not starts:
+        # a murmur spanning more bins than the other window has free in a row:
+        # the null uses the longest free run (shorter runs vary more, so the
+        # threshold errs on the side of caution)
+        free = [e - s for s, e in _runs(ok)]
+        if free and max(free) >= 2:
+            width = max(free)
+            starts = [k for k in range(n_bins - width + 1) if ok[k:k + width].all()]
+    if starts:
+        null = np.concatenate([
+            10.0 * np.log10(np.maximum(
+                R[:, other][:, bands][:, :, k:k + width].mean(axis=(1, 2))
+                / np.maximum(qref, 1e-30), 1e-12)) for k in starts])
+        thr = max(NULL_FLOOR_DB, float(np.percentile(null, 90)))
+        diff = bdb - null.reshape(len(starts), n_beats).mean(axis=0)
+        paired_stat = {"mean_db": float(np.mean(diff)), "t": _one_sample_t(diff)}
+    else:
+        thr = cfg.beat_excess_db
+        paired_stat = None
+    shows = bdb >= thr
+    consistency = float(np.mean(shows))
+    steady = bool(starts) and (_iqr(bdb) <= STEADY_SPREAD * max(_iqr(null), 1.0))
+    if (consistency < cfg.present_consistency and steady
+            and n_beats >= 2 * BLOCK_BEATS):
+        # weak but steady murmur (its beat-to-beat spread no wider than the
+        # null's): judge it on groups of BLOCK_BEATS consecutive beats (their mean
+        # against the same null built from groups), so that a faint murmur is not
+        # called inconsistent because single beats are noisy. Irregular sounds
+        # (speech, friction) widen the spread and get no such help.
+        blocks = _block_means(bdb, BLOCK_BEATS)
+        null_blocks = np.concatenate([
+            _block_means(10.0 * np.log10(np.maximum(
+                R[:, other][:, bands][:, :, k:k + width].mean(axis=(1, 2))
+                / np.maximum(qref, 1e-30), 1e-12)), BLOCK_BEATS) for k in starts])
+        bthr = max(NULL_FLOOR_DB / 2.0, float(np.percentile(null_blocks, 90)))
+        block_ok = blocks >= bthr
+        if np.mean(block_ok) > consistency:
+            consistency = float(np.mean(block_ok))
+            shows = np.repeat(block_ok, BLOCK_BEATS)[:n_beats]
+            if len(shows) < n_beats:
+                shows = np.concatenate([shows, np.full(n_beats - len(shows),
+                                                       bool(block_ok[-1]))])
+    return bdb, shows, consistency, paired_stat
+
+
+@dataclass(frozen=True)
+class _Course:
+    """Timing and shape words read from a murmur's time course (fractions of the whole
+    window, sound to sound)."""
+    onset: float
+    end: float
+    timing: str
+    timing_confidence: float
+    shape: str
+    shape_confidence: float
+    peak_fraction: float
+
+
+def _course_words(full: np.ndarray, c: _Candidate, *, guard_s: float, length_s: float,
+                  frame_s: float) -> _Course:
+    """Extent, timing, shape and peak of candidate ``c`` from its time course ``full``
+    (bins over the window less ``guard_s`` at each end, ``length_s`` long; peak 1)
+    measured with ``frame_s`` frames."""
+    n_bins = len(full)
+    g, length = guard_s, length_s
+    # extent: the active run, limited to where the murmur is within
+    # EXTENT_DB of its peak (a loud murmur's faint edges do not make it longer)
+    onset, end = _extent(full, c.k0, c.k1, EXTENT_DB)
+    # back to fractions of the whole window (S1 end to S2 start, S2 end to next
+    # S1), undoing the guard trimmed at each end
+    # and take off half a frame at each edge (each frame smears a sound over its
+    # length, so measured edges sit that much outside the true ones)
+    if length > 0:
+        whole = length + 2.0 * g
+        # a murmur already there when the trimmed window opens runs from the
+        # sound itself (the guard hides its start); likewise at the end
+        half = EDGE_SMEAR_FRAMES * frame_s
+        t_on = g + onset * length + half if onset > 0 else 0.0
+        t_end = g + end * length - half if end < 1 else whole
+        if t_end <= t_on:
+            t_on = t_end = 0.5 * (g + onset * length + g + end * length)
+        onset, end = t_on / whole, t_end / whole
+    timing = timing_word(onset, end)
+    if (timing == "holo" and c.window == SYS
+            and (float(full[-1]) < 10.0 ** (-HOLO_END_DB / 10.0)
+                 or max(float(full[0]), float(full[-1])) <= 10.0 ** (-HOLO_EDGE_DB / 10.0))):
+        # run from S1 to S2 but faded by S2, or swelling from S1 and fading again
+        # before S2: a long ejection murmur, not holosystolic
+        timing = "mid"
+    t_conf = float(np.clip(1.0 - 4.0 * min(abs(onset - 0.15), abs(end - 0.85),
+                                           abs(onset - 0.5), abs(end - 2 / 3)), 0.4, 1.0))
+    full_db = 10.0 * np.log10(np.maximum(full, 1e-6))
+    # bin centres as fractions of the whole window (the guards trimmed at each
+    # end are part of it)
+    centres = (np.arange(n_bins) + 0.5) / n_bins
+    if length > 0:
+        centres = (g + centres * length) / (length + 2.0 * g)
+    # the shape is the loudness course across the whole window
+    shape, s_conf = shape_word(full_db, centres)
+    # the murmur's own peak: the loudest bin of its active run (the whole window's
+    # profile can peak on another sound, such as an S4 at its end)
+    peak_frac = float(centres[c.k0 + int(np.argmax(full[c.k0:c.k1]))])
+    return _Course(onset, end, timing, t_conf, shape, s_conf, peak_frac)
+
+
 def find_murmurs(spec: Spectrogram, prof: Profiles, config: FindingsConfig,
                  time_prof: Profiles | None = None, time_frame_s: float | None = None
                  ) -> MurmurSearch:
@@ -755,60 +880,9 @@ def find_murmurs(spec: Spectrogram, prof: Profiles, config: FindingsConfig,
                   and by_w[DIA].k0 <= 1)
     for c in cands:
         bands = list(c.bands)
-        act = R[:, c.window][:, bands][:, :, c.k0:c.k1].mean(axis=(1, 2))
-        q = np.concatenate([R[:, ww][:, bands][:, :, quiet[ww]] for ww in (SYS, DIA)],
-                           axis=2)
-        qref = q.mean(axis=(1, 2)) if q.shape[2] else np.ones(n_beats)
-        bdb = 10.0 * np.log10(np.maximum(act / np.maximum(qref, 1e-30), 1e-12))
-        # null: the same statistic over runs of the same length in the other window's
-        # quiet bins (where no murmur is); a beat shows the murmur when it beats 90 %
-        # of that null
-        other = DIA if c.window == SYS else SYS
-        width = c.k1 - c.k0
-        ok = M[other][bands].max(axis=0) < cfg.excess_db / 2.0
-        starts = [k for k in range(n_bins - width + 1) if ok[k:k + width].all()]
-        if not starts:
-            # a murmur spanning more bins than the other window has free in a row:
-            # the null uses the longest free run (shorter runs vary more, so the
-            # threshold errs on the side of caution)
-            free = [e - s for s, e in _runs(ok)]
-            if free and max(free) >= 2:
-                width = max(free)
-                starts = [k for k in range(n_bins - width + 1) if ok[k:k + width].all()]
-        if starts:
-            null = np.concatenate([
-                10.0 * np.log10(np.maximum(
-                    R[:, other][:, bands][:, :, k:k + width].mean(axis=(1, 2))
-                    / np.maximum(qref, 1e-30), 1e-12)) for k in starts])
-            thr = max(NULL_FLOOR_DB, float(np.percentile(null, 90)))
-            diff = bdb - null.reshape(len(starts), n_beats).mean(axis=0)
-            evidence[PHASES[c.window]] = {"mean_db": float(np.mean(diff)),
-                                          "t": _one_sample_t(diff)}
-        else:
-            thr = cfg.beat_excess_db
-        shows = bdb >= thr
-        consistency = float(np.mean(shows))
-        steady = bool(starts) and (_iqr(bdb) <= STEADY_SPREAD * max(_iqr(null), 1.0))
-        if (consistency < cfg.present_consistency and steady
-                and n_beats >= 2 * BLOCK_BEATS):
-            # weak but steady murmur (its beat-to-beat spread no wider than the
-            # null's): judge it on groups of BLOCK_BEATS consecutive beats (their mean
-            # against the same null built from groups), so that a faint murmur is not
-            # called inconsistent because single beats are noisy. Irregular sounds
-            # (speech, friction) widen the spread and get no such help.
-            blocks = _block_means(bdb, BLOCK_BEATS)
-            null_blocks = np.concatenate([
-                _block_means(10.0 * np.log10(np.maximum(
-                    R[:, other][:, bands][:, :, k:k + width].mean(axis=(1, 2))
-                    / np.maximum(qref, 1e-30), 1e-12)), BLOCK_BEATS) for k in starts])
-            bthr = max(NULL_FLOOR_DB / 2.0, float(np.percentile(null_blocks, 90)))
-            block_ok = blocks >= bthr
-            if np.mean(block_ok) > consistency:
-                consistency = float(np.mean(block_ok))
-                shows = np.repeat(block_ok, BLOCK_BEATS)[:n_beats]
-                if len(shows) < n_beats:
-                    shows = np.concatenate([shows, np.full(n_beats - len(shows),
-                                                           bool(block_ok[-1]))])
+        bdb, shows, consistency, paired_stat = _beat_evidence(R, M, c, quiet, cfg)
+        if paired_stat is not None:
+            evidence[PHASES[c.window]] = paired_stat
         name = PHASES[c.window]
         flags[name] = shows
         beat_db[name] = bdb
@@ -839,45 +913,10 @@ def find_murmurs(spec: Spectrogram, prof: Profiles, config: FindingsConfig,
                 dia_w = trimmed_mean(excess_beats[use][:, DIA], 0.15)
                 spill_profile = tuple(float(v) for v in np.concatenate([prof_w, dia_w])
                                       / max(float(prof_w.max()), 1e-30))
-        # extent: the active run, limited to where the murmur is within
-        # EXTENT_DB of its peak (a loud murmur's faint edges do not make it longer)
-        onset, end = _extent(full, c.k0, c.k1, EXTENT_DB)
-        # back to fractions of the whole window (S1 end to S2 start, S2 end to next
-        # S1), undoing the guard trimmed at each end
-        # and take off half a frame at each edge (each frame smears a sound over its
-        # length, so measured edges sit that much outside the true ones)
-        g = float(np.median(prof.guard_s[:, c.window]))
-        length = float(dur_s[c.window])
-        if length > 0:
-            whole = length + 2.0 * g
-            # a murmur already there when the trimmed window opens runs from the
-            # sound itself (the guard hides its start); likewise at the end
-            half = EDGE_SMEAR_FRAMES * float(time_frame_s or frame_s)
-            t_on = g + onset * length + half if onset > 0 else 0.0
-            t_end = g + end * length - half if end < 1 else whole
-            if t_end <= t_on:
-                t_on = t_end = 0.5 * (g + onset * length + g + end * length)
-            onset, end = t_on / whole, t_end / whole
-        timing = timing_word(onset, end)
-        if (timing == "holo" and c.window == SYS
-                and (float(full[-1]) < 10.0 ** (-HOLO_END_DB / 10.0)
-                     or max(float(full[0]), float(full[-1])) <= 10.0 ** (-HOLO_EDGE_DB / 10.0))):
-            # run from S1 to S2 but faded by S2, or swelling from S1 and fading again
-            # before S2: a long ejection murmur, not holosystolic
-            timing = "mid"
-        t_conf = float(np.clip(1.0 - 4.0 * min(abs(onset - 0.15), abs(end - 0.85),
-                                               abs(onset - 0.5), abs(end - 2 / 3)), 0.4, 1.0))
-        full_db = 10.0 * np.log10(np.maximum(full, 1e-6))
-        # bin centres as fractions of the whole window (the guards trimmed at each
-        # end are part of it)
-        centres = (np.arange(n_bins) + 0.5) / n_bins
-        if length > 0:
-            centres = (g + centres * length) / (length + 2.0 * g)
-        # the shape is the loudness course across the whole window
-        shape, s_conf = shape_word(full_db, centres)
-        # the murmur's own peak: the loudest bin of its active run (the whole window's
-        # profile can peak on another sound, such as an S4 at its end)
-        peak_frac = float(centres[c.k0 + int(np.argmax(full[c.k0:c.k1]))])
+        course = _course_words(full, c, guard_s=float(np.median(prof.guard_s[:, c.window])),
+                               length_s=float(dur_s[c.window]),
+                               frame_s=float(time_frame_s or frame_s))
+        onset, end, timing = course.onset, course.end, course.timing
         # level: peak excess power per beat (all bands) re the louder of S1 and S2
         peak_pow = excess_beats[use][:, c.window, c.k0:c.k1].max(axis=1)
         level = 10.0 * np.log10(max(float(np.median(peak_pow)), 1e-30)
@@ -943,16 +982,18 @@ def find_murmurs(spec: Spectrogram, prof: Profiles, config: FindingsConfig,
             conf = min(conf, 0.6)
         murmurs.append(Murmur(
             id="", phase=name, presence=presence, confidence=conf, timing=timing,
-            timing_confidence=t_conf, shape=shape, shape_confidence=s_conf, pitch=pitch,
+            timing_confidence=course.timing_confidence, shape=course.shape,
+            shape_confidence=course.shape_confidence, pitch=pitch,
             dominant_frequency_hz=sp["dominant_hz"], centroid_hz=centroid,
             quality_words=words, consistency=consistency, grade_range=grade_range(level),
-            grade_note=GRADE_NOTE, level_db_re_heart_sounds=level, peak_fraction=peak_frac,
+            grade_note=GRADE_NOTE, level_db_re_heart_sounds=level,
+            peak_fraction=course.peak_fraction,
             beats_with_murmur=int(shows.sum()), beats_used=n_beats,
             profile=tuple(float(v) for v in full), spectrum=band_e,
             tonality=sp["tonality"], snr_db=snr, level_db_re_s1=level_s1,
             onset_fraction=onset, end_fraction=end,
             presystolic_accent=bool(c.window == DIA and onset <= 1.0 / 3.0
-                                    and shape != "crescendo" and _accent(full)),
+                                    and course.shape != "crescendo" and _accent(full)),
             uncertain_reason=why))
     if continuous and len(murmurs) == 2 and all(m.presence == "present" for m in murmurs):
         murmurs = [_merge_continuous(murmurs[0], murmurs[1])]
