@@ -949,32 +949,12 @@ def find_murmurs(spec: Spectrogram, prof: Profiles, config: FindingsConfig,
             rejected.append(f"a {name} excess {level:.0f} dB below the heart sounds is too "
                             "faint to call a murmur")
             continue
-        # a tonal excess is more often a wheeze or room speech than a murmur: it must
-        # be seen in more of the beats before it is called present
-        need = (cfg.tonal_present_consistency if "musical" in words
-                else cfg.present_consistency)
-        if c.window == DIA:
-            need = max(need, cfg.diastolic_present_consistency)
-        # ... or, not tonal, stand clear of the same beats' null on average even when
-        # single beats are too noisy to show it (paired t across beats)
         paired = evidence.get(name, {}).get("t", 0.0)
-        if "musical" not in words and paired >= PAIRED_T:
-            need = min(need, cfg.uncertain_consistency)
-        if level < cfg.faint_level_db_re_heart_sounds:
-            need = max(need, cfg.faint_present_consistency)
-        # ... and an excess that neither stands clear of the same beats' null on
-        # average nor forms a smooth time course is more likely noise not locked to
-        # the cycle (a voice, friction): at most 'uncertain'
-        erratic = (name in evidence and paired < WEAK_PAIRED_T
-                   and _jaggedness_db(M[c.window][bands])
-                   > max(JAGGED_DB, JAGGED_SHARE * float(c.peak_db)))
-        # ... and a diastolic excess confined below LOW_ONLY_HZ is at most 'uncertain'
-        low_diastolic = (c.window == DIA
-                         and max(spec.bands_hz[b][1] for b in bands) <= LOW_ONLY_HZ)
         why = _uncertain_reason(
-            cfg, consistency=consistency, need=need, n_beats=n_beats, level=level,
-            musical="musical" in words, erratic=erratic, paired_t=paired,
-            low_diastolic=low_diastolic, diastolic=c.window == DIA)
+            cfg, window=c.window, consistency=consistency, n_beats=n_beats, level=level,
+            musical="musical" in words, paired_t=paired if name in evidence else None,
+            jagged_db=_jaggedness_db(M[c.window][bands]), peak_db=float(c.peak_db),
+            top_hz=max(spec.bands_hz[b][1] for b in bands))
         presence = "uncertain" if why else "present"
         strength = float(np.clip((snr - cfg.excess_db) / 6.0 + 0.5, 0.0, 1.0))
         conf = float(np.clip(0.5 * consistency + 0.5 * strength, 0.0, 1.0))
@@ -1006,11 +986,34 @@ def find_murmurs(spec: Spectrogram, prof: Profiles, config: FindingsConfig,
     return MurmurSearch(tuple(murmurs), M, tuple(rejected), flags, beat_db, through, evidence)
 
 
-def _uncertain_reason(cfg: FindingsConfig, *, consistency: float, need: float, n_beats: int,
-                      level: float, musical: bool, erratic: bool, paired_t: float,
-                      low_diastolic: bool, diastolic: bool = False) -> str:
-    """Why a murmur candidate is 'uncertain' rather than 'present' (empty when present),
-    in the order the rules are checked."""
+def _uncertain_reason(cfg: FindingsConfig, *, window: int, consistency: float, n_beats: int,
+                      level: float, musical: bool, paired_t: float | None, jagged_db: float,
+                      peak_db: float, top_hz: float) -> str:
+    """Why a murmur candidate is 'uncertain' rather than 'present' (empty when present):
+    the presence rules in the order they are checked. ``paired_t`` is None without a
+    null to pair with; ``jagged_db`` is the roughness of its beat-averaged excess
+    (:func:`_jaggedness_db`), ``peak_db`` its peak excess, ``top_hz`` the top of its
+    highest band."""
+    diastolic = window == DIA
+    paired = 0.0 if paired_t is None else paired_t
+    # a tonal excess is more often a wheeze or room speech than a murmur: it must
+    # be seen in more of the beats before it is called present; so must a diastolic one
+    need = cfg.tonal_present_consistency if musical else cfg.present_consistency
+    if diastolic:
+        need = max(need, cfg.diastolic_present_consistency)
+    # ... or, not tonal, stand clear of the same beats' null on average even when
+    # single beats are too noisy to show it (paired t across beats)
+    if not musical and paired >= PAIRED_T:
+        need = min(need, cfg.uncertain_consistency)
+    if level < cfg.faint_level_db_re_heart_sounds:
+        need = max(need, cfg.faint_present_consistency)
+    # ... and an excess that neither stands clear of the same beats' null on
+    # average nor forms a smooth time course is more likely noise not locked to
+    # the cycle (a voice, friction): at most 'uncertain'
+    erratic = (paired_t is not None and paired < WEAK_PAIRED_T
+               and jagged_db > max(JAGGED_DB, JAGGED_SHARE * peak_db))
+    # ... and a diastolic excess confined below LOW_ONLY_HZ is at most 'uncertain'
+    low_diastolic = diastolic and top_hz <= LOW_ONLY_HZ
     seen = f"{math.floor(100.0 * consistency):.0f}%"  # never "65% (need 65%)" by rounding
     if n_beats < cfg.min_beats_present:
         return f"only {n_beats} usable beats (need {cfg.min_beats_present} to call it present)"
