@@ -269,3 +269,25 @@ def test_murmur_profile_is_shaded_only_where_the_murmur_runs():
     assert xs.size and xs.min() >= 40.0 - 1e-6 and xs.max() <= 80.0 + 1e-6
     line = ax.lines[0].get_xdata()
     assert line.min() < 40.0 and line.max() > 80.0  # the course runs across the window
+
+
+def test_cause_of_an_uncertain_murmur_is_hedged():
+    """A murmur-free benchmark recording (simulator truth: no murmur) with a diastolic
+    excess in under 65 % of its beats: the murmur is 'uncertain', and the headline
+    names the ranked cause only as the cause of a possible murmur."""
+    from eddyphone.io import from_array
+    from eddyphone.report import text
+    from eddyphone.simulate import benchmark_specs, generate
+
+    spec = next(s for s in benchmark_specs(600, seed=2) if s.seed == 200526)
+    sim = generate(spec)
+    assert sim.truth["murmur"]["present"] is False
+    analysis = eddyphone.analyze(from_array(sim.x, sim.fs, source="case200526"))
+    assert analysis.summary()["murmur"] == "uncertain"
+    top = analysis.explanation.top()
+    assert top.name != "no_flow_disturbance"
+    facts = dict(text.headline(analysis))
+    assert facts["Most likely mechanism"].endswith(", if the possible murmur is real")
+    from eddyphone.cli.analyze import _one_line  # the CLI's one-line summary likewise
+
+    assert "murmur uncertain; if the possible murmur is real, most likely:" in _one_line(analysis)

@@ -181,7 +181,9 @@ def _one_line(analysis) -> str:
         # nothing was heard to rank causes on: say so rather than name a cause
         tail = "; no usable beats, causes not ranked (record again)"
     elif top:
-        tail = f"; most likely: {top.replace('_', ' ')} ({s['top_mechanism_score']:.2f})"
+        hedge = ("if the possible murmur is real, "
+                 if s.get("murmur") == "uncertain" and top != "no_flow_disturbance" else "")
+        tail = f"; {hedge}most likely: {top.replace('_', ' ')} ({s['top_mechanism_score']:.2f})"
     else:
         tail = ""
     return f"{analysis.recording.source}: {rate}; quality {s['quality_score']:.2f}; {murmur}{tail}"

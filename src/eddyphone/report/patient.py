@@ -230,7 +230,8 @@ def _html(patient: str, summary: Any, analyses: Sequence[Any], explanation: Any,
              ("Sites", ", ".join(_site(a) for a in order_sites(analyses)))]
     top = explanation.top() if explanation is not None else None
     if top is not None:
-        facts.append(("Most likely mechanism", f"{top.label} (score {top.score:.2f})"))
+        facts.append(("Most likely mechanism",
+                      text.mechanism_phrase(top, getattr(summary, "presence", None))))
     facts += _summary_facts(summary)
     add("Summary", _facts(facts, element_id="summary-facts"), "summary")
     header, rows = site_rows(analyses)
@@ -285,7 +286,8 @@ def _pdf(path: Path, patient: str, summary: Any, analyses: Sequence[Any], explan
                  ("Sites", ", ".join(_site(a) for a in order_sites(analyses)))]
         top = explanation.top() if explanation is not None else None
         if top is not None:
-            facts.append(("Most likely mechanism", f"{top.label} (score {top.score:.2f})"))
+            facts.append(("Most likely mechanism",
+                          text.mechanism_phrase(top, getattr(summary, "presence", None))))
         pages.facts(facts + _summary_facts(summary))
         pages.heading("2  Sites side by side")
         header, rows = site_rows(analyses)

@@ -67,13 +67,22 @@ def headline(analysis: Any) -> list[tuple[str, str]]:
         rows.append(("Extra sounds", "; ".join(extras) if extras else "none found"))
     top = analysis.explanation.top() if analysis.explanation is not None else None
     if top is not None:
-        rows.append(("Most likely mechanism", f"{top.label} (score {top.score:.2f})"))
+        rows.append(("Most likely mechanism", mechanism_phrase(top, s.get("murmur"))))
     elif analysis.explanation is None:
         rows.append(("Most likely mechanism", "not assessed"))
     q = analysis.quality
     rows.append(("Recording quality", f"{q.score:.2f} of 1"
                  + ("" if q.usable else " — below the usable threshold")))
     return rows
+
+
+def mechanism_phrase(top: Any, murmur_presence: str | None) -> str:
+    """The top mechanism with its score; hedged when the murmur it explains is only
+    possible ('uncertain'), so a cause is never read as settled for a murmur that is not."""
+    text = f"{top.label} (score {top.score:.2f})"
+    if murmur_presence == "uncertain" and top.name != "no_flow_disturbance":
+        text += ", if the possible murmur is real"
+    return text
 
 
 def murmur_headline(analysis: Any) -> str:
