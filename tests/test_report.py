@@ -291,3 +291,29 @@ def test_cause_of_an_uncertain_murmur_is_hedged():
     from eddyphone.cli.analyze import _one_line  # the CLI's one-line summary likewise
 
     assert "murmur uncertain; if the possible murmur is real, most likely:" in _one_line(analysis)
+
+
+def test_a_regular_rhythm_with_a_large_rr_variation_says_why():
+    """The rhythm word 'regular' beside an RR variation above the irregular edge
+    (rhythm.IRREGULAR_RR_CV) reads as a contradiction unless the line says why."""
+    from types import SimpleNamespace
+
+    from eddyphone.report.text import rr_variation_words
+    from eddyphone.rhythm import rr_statistics
+
+    def words(rr, irregular=False):
+        _, cv, _ = rr_statistics(np.asarray(rr))
+        return rr_variation_words(SimpleNamespace(rr_s=tuple(rr), rr_cv=cv,
+                                                  irregular=irregular))
+
+    steady = [0.80, 0.82, 0.79, 0.81, 0.80, 0.78]
+    assert words(steady) == "RR variation 2 %"
+    # one beat split in two by the segmentation (0.30 + 0.50 = one interval)
+    split = [0.80, 0.80, 0.30, 0.50, 0.80, 0.81, 0.79, 0.80]
+    assert words(split).startswith("RR variation 1 % once beats the segmentation split")
+    assert words(split).endswith("as segmented")
+    # a premature beat with its pause stays a large variation, with the reason
+    premature = [0.80, 0.80, 0.50, 1.10, 0.80, 0.80, 0.80, 0.80]
+    assert words(premature).endswith("(misplaced or premature beats)")
+    assert words(premature, irregular=True).startswith("RR variation")
+    assert "premature" not in words(premature, irregular=True)

@@ -18,6 +18,7 @@ quality_rows(analysis) -> (header, rows)
 skipped_rows(analysis) -> (header, rows)
 beat_rows(analysis) -> (header, rows)
 cautions(analysis) -> list of str
+rr_variation_words(rhythm) -> str
 provenance(analysis) -> list of (label, value)
 """
 
@@ -29,6 +30,8 @@ from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 from datetime import datetime, timezone
 from typing import Any
+
+import numpy as np
 
 from eddyphone._version import __version__
 
@@ -56,7 +59,7 @@ def headline(analysis: Any) -> list[tuple[str, str]]:
         rows.append(("Heart rate", f"{s['heart_rate_bpm']:.0f} bpm"))
         regular = s.get("rhythm") or "—"
         if rhythm is not None and rhythm.rr_cv is not None:
-            regular += f" (RR variation {100 * rhythm.rr_cv:.0f} %)"
+            regular += f" ({rr_variation_words(rhythm)})"
         rows.append(("Rhythm", regular))
     else:
         rows.append(("Heart rate", "not found"))
@@ -74,6 +77,26 @@ def headline(analysis: Any) -> list[tuple[str, str]]:
     rows.append(("Recording quality", f"{q.score:.2f} of 1"
                  + ("" if q.usable else " — below the usable threshold")))
     return rows
+
+
+def rr_variation_words(rhythm: Any) -> str:
+    """The RR variation beside the rhythm word, so that a rhythm called regular with
+    a large variation says why (sounds the segmentation split or missed, or a few
+    intervals far off the rest while successive beats stay alike; see
+    :func:`eddyphone.rhythm.rhythm_from_beats`)."""
+    from eddyphone.rhythm import IRREGULAR_RR_CV, per_beat_intervals
+
+    cv = float(rhythm.rr_cv)
+    text = f"RR variation {100 * cv:.0f} %"
+    rr = np.asarray(getattr(rhythm, "rr_s", ()) or (), dtype=float)
+    if rhythm.irregular or cv <= IRREGULAR_RR_CV or len(rr) < 3:
+        return text
+    per = per_beat_intervals(rr)
+    per_cv = float(np.std(per) / np.mean(per)) if len(per) and np.mean(per) > 0 else cv
+    if per_cv <= IRREGULAR_RR_CV:
+        return (f"RR variation {100 * per_cv:.0f} % once beats the segmentation split or "
+                f"missed are allowed for; {100 * cv:.0f} % as segmented")
+    return text + ", from a few intervals far off the rest (misplaced or premature beats)"
 
 
 def mechanism_phrase(top: Any, murmur_presence: str | None) -> str:
