@@ -159,6 +159,15 @@ def summarise(rows: list[dict], *, seed: int, beats: str, jobs: int, wall: float
               f"present; {unc} uncertain; {len(out)} murmurs not carried by the recording "
               f"left out {dict(why)}, {sum(r['presence'] == 'present' for r in out)} of "
               f"them called present)")
+    # the same cases with 'uncertain' taken as the tool declining to decide: how often
+    # it is right when it does decide, and how often it declines
+    scored_hi = [r for r in hi if r["t_audible"] or r["t_cause"] == "none"]
+    decided = [(r["t_audible"], r["presence"] == "present") for r in scored_hi
+               if r["presence"] != "uncertain"]
+    undecided = Counter(bool(r["t_audible"]) for r in scored_hi if r["presence"] == "uncertain")
+    print(f"  on the cases it decides, SNR >= 10 dB: {_acc(decided)}; undecided "
+          f"{len(scored_hi) - len(decided)}/{len(scored_hi)} (murmurs {undecided[True]}, "
+          f"murmur-free {undecided[False]})")
     for name, sel in (("SNR >= 10 dB", hi), ("all SNR", rows)):
         pairs = [(r["t_present"], r["presence"] == "present") for r in sel]
         print(f"  as generated (every generated murmur counted present), {name}: "
