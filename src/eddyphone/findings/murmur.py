@@ -949,10 +949,9 @@ def find_murmurs(spec: Spectrogram, prof: Profiles, config: FindingsConfig,
             rejected.append(f"a {name} excess {level:.0f} dB below the heart sounds is too "
                             "faint to call a murmur")
             continue
-        paired = evidence.get(name, {}).get("t", 0.0)
         why = _uncertain_reason(
             cfg, window=c.window, consistency=consistency, n_beats=n_beats, level=level,
-            musical="musical" in words, paired_t=paired if name in evidence else None,
+            musical="musical" in words, paired_t=evidence.get(name, {}).get("t"),
             jagged_db=_jaggedness_db(M[c.window][bands]), peak_db=float(c.peak_db),
             top_hz=max(spec.bands_hz[b][1] for b in bands))
         presence = "uncertain" if why else "present"
