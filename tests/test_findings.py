@@ -19,16 +19,11 @@ from eddyphone import physiology
 from eddyphone.condition import condition
 from eddyphone.findings import FindingsConfig, describe, summarise_patient
 from eddyphone.findings import extra as extra_mod
-from eddyphone.findings.config import PITCH_BOUNDARIES_HZ, TIMING_THIRDS
+from eddyphone.findings.config import PITCH_BOUNDARIES_HZ, TIMING_THIRDS, pitch_word
 from eddyphone.findings.grade import MAX_AUDIO_GRADE, grade_range
 from eddyphone.findings.measures import beat_windows, spectrogram
-from eddyphone.findings.murmur import (
-    noise_relative_centroid_hz,
-    pitch_word,
-    quality_words,
-    shape_word,
-    timing_word,
-)
+from eddyphone.findings.murmur import noise_relative_centroid_hz
+from eddyphone.findings.words import quality_words, shape_word, timing_word
 from eddyphone.segment.beats import Segment, beats_from_segments
 from eddyphone.simulate import CaseSpec, MurmurSpec, generate
 
