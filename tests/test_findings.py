@@ -804,3 +804,15 @@ def test_murmur_free_diastolic_excess_in_60_percent_of_beats_is_not_present():
     old = describe(c.x, c.fs, _truth_beats(sim),
                    config=FindingsConfig(diastolic_present_consistency=0.6))
     assert old.presence == "present"
+
+
+@pytest.mark.parametrize("name", ["diastolic_present_consistency", "tonal_present_consistency",
+                                  "faint_present_consistency"])
+def test_consistency_settings_outside_0_1_are_refused(name):
+    from eddyphone.errors import ParameterError
+
+    with pytest.raises(ParameterError, match=name):
+        FindingsConfig(**{name: 1.5})
+    with pytest.raises(ParameterError, match=name):
+        FindingsConfig(**{name: 0.0})
+    assert getattr(FindingsConfig(**{name: 0.9}), name) == 0.9

@@ -195,6 +195,10 @@ class FindingsConfig:
             raise ParameterError(
                 f"need 0 < uncertain_consistency={self.uncertain_consistency} <= "
                 f"present_consistency={self.present_consistency} <= 1")
+        for name in ("diastolic_present_consistency", "tonal_present_consistency",
+                     "faint_present_consistency"):
+            if not 0.0 < getattr(self, name) <= 1.0:
+                raise ParameterError(f"{name}={getattr(self, name)} must lie in (0, 1]")
         if not 0.0 < self.reference_percentile < 50.0:
             raise ParameterError(
                 f"reference_percentile={self.reference_percentile} must lie in (0, 50)")
