@@ -165,10 +165,10 @@ def _one_line(analysis) -> str:
     s = analysis.summary()
     rate = f"{s['heart_rate_bpm']:.0f} bpm {s['rhythm']}" if s.get("heart_rate_bpm") else \
         "rate not found"
+    from eddyphone.report.text import cause_is_hedged, phase_words
+
     murmur = s.get("murmur", "uncertain")
     if murmur == "present":
-        from eddyphone.report.text import phase_words
-
         words = [phase_words(s.get("murmur_timing"), s.get("murmur_phase") or ""),
                  s.get("murmur_shape")]
         murmur = " ".join(w for w in words if w) + " murmur"
@@ -181,8 +181,7 @@ def _one_line(analysis) -> str:
         # nothing was heard to rank causes on: say so rather than name a cause
         tail = "; no usable beats, causes not ranked (record again)"
     elif top:
-        hedge = ("if the possible murmur is real, "
-                 if s.get("murmur") == "uncertain" and top != "no_flow_disturbance" else "")
+        hedge = "if the possible murmur is real, " if cause_is_hedged(s.get("murmur"), top) else ""
         tail = f"; {hedge}most likely: {top.replace('_', ' ')} ({s['top_mechanism_score']:.2f})"
     else:
         tail = ""

@@ -587,13 +587,14 @@ def _beat_evidence(R: np.ndarray, M: np.ndarray, c: _Candidate, quiet: np.ndarra
         if free and max(free) >= 2:
             width = max(free)
             starts = [k for k in range(n_bins - width + 1) if ok[k:k + width].all()]
+    # the same per-beat statistic at each free start of the other window
+    nulls = [10.0 * np.log10(np.maximum(
+        R[:, other][:, bands][:, :, k:k + width].mean(axis=(1, 2))
+        / np.maximum(qref, 1e-30), 1e-12)) for k in starts]
     if starts:
-        null = np.concatenate([
-            10.0 * np.log10(np.maximum(
-                R[:, other][:, bands][:, :, k:k + width].mean(axis=(1, 2))
-                / np.maximum(qref, 1e-30), 1e-12)) for k in starts])
+        null = np.concatenate(nulls)
         thr = max(NULL_FLOOR_DB, float(np.percentile(null, 90)))
-        diff = bdb - null.reshape(len(starts), n_beats).mean(axis=0)
+        diff = bdb - np.mean(nulls, axis=0)
         paired_stat = {"mean_db": float(np.mean(diff)), "t": _one_sample_t(diff)}
     else:
         thr = cfg.beat_excess_db
@@ -609,10 +610,7 @@ def _beat_evidence(R: np.ndarray, M: np.ndarray, c: _Candidate, quiet: np.ndarra
         # called inconsistent because single beats are noisy. Irregular sounds
         # (speech, friction) widen the spread and get no such help.
         blocks = _block_means(bdb, BLOCK_BEATS)
-        null_blocks = np.concatenate([
-            _block_means(10.0 * np.log10(np.maximum(
-                R[:, other][:, bands][:, :, k:k + width].mean(axis=(1, 2))
-                / np.maximum(qref, 1e-30), 1e-12)), BLOCK_BEATS) for k in starts])
+        null_blocks = np.concatenate([_block_means(v, BLOCK_BEATS) for v in nulls])
         bthr = max(NULL_FLOOR_DB / 2.0, float(np.percentile(null_blocks, 90)))
         block_ok = blocks >= bthr
         if np.mean(block_ok) > consistency:

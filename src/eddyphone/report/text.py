@@ -84,26 +84,30 @@ def rr_variation_words(rhythm: Any) -> str:
     a large variation says why (sounds the segmentation split or missed, or a few
     intervals far off the rest while successive beats stay alike; see
     :func:`eddyphone.rhythm.rhythm_from_beats`)."""
-    from eddyphone.rhythm import IRREGULAR_RR_CV, per_beat_intervals
+    from eddyphone.rhythm import IRREGULAR_RR_CV, per_beat_intervals, rr_statistics
 
     cv = float(rhythm.rr_cv)
     text = f"RR variation {100 * cv:.0f} %"
     rr = np.asarray(getattr(rhythm, "rr_s", ()) or (), dtype=float)
     if rhythm.irregular or cv <= IRREGULAR_RR_CV or len(rr) < 3:
         return text
-    per = per_beat_intervals(rr)
-    per_cv = float(np.std(per) / np.mean(per)) if len(per) and np.mean(per) > 0 else cv
-    if per_cv <= IRREGULAR_RR_CV:
+    per_cv = rr_statistics(per_beat_intervals(rr))[1]
+    if per_cv is not None and per_cv <= IRREGULAR_RR_CV:
         return (f"RR variation {100 * per_cv:.0f} % once beats the segmentation split or "
                 f"missed are allowed for; {100 * cv:.0f} % as segmented")
     return text + ", from a few intervals far off the rest (misplaced or premature beats)"
 
 
+def cause_is_hedged(murmur_presence: str | None, mechanism_name: str) -> bool:
+    """Whether a ranked cause explains a murmur that is only possible ('uncertain'), so
+    it must not be read as settled."""
+    return murmur_presence == "uncertain" and mechanism_name != "no_flow_disturbance"
+
+
 def mechanism_phrase(top: Any, murmur_presence: str | None) -> str:
-    """The top mechanism with its score; hedged when the murmur it explains is only
-    possible ('uncertain'), so a cause is never read as settled for a murmur that is not."""
+    """The top mechanism with its score, hedged as :func:`cause_is_hedged` says."""
     text = f"{top.label} (score {top.score:.2f})"
-    if murmur_presence == "uncertain" and top.name != "no_flow_disturbance":
+    if cause_is_hedged(murmur_presence, top.name):
         text += ", if the possible murmur is real"
     return text
 
