@@ -816,3 +816,30 @@ def test_consistency_settings_outside_0_1_are_refused(name):
     with pytest.raises(ParameterError, match=name):
         FindingsConfig(**{name: 0.0})
     assert getattr(FindingsConfig(**{name: 0.9}), name) == 0.9
+
+
+
+@pytest.mark.parametrize("site", ["aortic", "pulmonic"])
+@pytest.mark.parametrize("seed", [5, 7])
+def test_late_a2_of_a_paradoxical_split_is_not_an_opening_snap(site, seed):
+    # Common practice: in a paradoxically split S2 the aortic closure comes after the
+    # pulmonic one, and an opening snap is timed from A2 (40-120 ms after it,
+    # physiology.OPENING_SNAP_AFTER_A2_S). These simulated recordings have no snap;
+    # timed from S2's onset (P2), their late A2 had read as one. The split is found.
+    _, f = _findings(CaseSpec(s2_split="paradoxical", site=site, snr_db=25, seed=seed))
+    kinds = [e.kind for e in f.extra_sounds]
+    assert "opening_snap" not in kinds
+    assert "split_S2" in kinds
+
+
+@pytest.mark.parametrize("seed", [1, 2, 3])
+def test_opening_snap_after_a2_is_found(seed):
+    # The simulator's snap (mitral area, physiological split) 40-120 ms after A2:
+    # found, timed within the published window plus the segmentation tolerance.
+    _, f = _findings(CaseSpec(s2_split="physiological", opening_snap=True, site="mitral",
+                                snr_db=25, seed=seed))
+    snap = [e for e in f.extra_sounds if e.kind == "opening_snap"]
+    assert snap, [e.kind for e in f.extra_sounds]
+    lo, hi = physiology.OPENING_SNAP_AFTER_A2_S
+    tol = extra_mod.WINDOW_TOLERANCE_S
+    assert 1000 * (lo - tol) <= snap[0].timing_ms <= 1000 * (hi + tol)

@@ -43,6 +43,19 @@ DIP_DB = 3.0
 #: ``physiology.SNAP_BAND_HZ``, S2 40-200 Hz); its centroid must reach this
 #: multiple of A2's (our own margin), which keeps P2 out.
 SNAP_PITCH_RATIO = 1.3
+#: A2 is the loudest S2-band peak within this long (s) of S2's onset: in a
+#: paradoxically split S2 the aortic closure follows P2 by up to the widest split
+#: (``physiology.S2_SPLIT_INSPIRATION_S``), and a snap is timed from A2, not P2.
+A2_SEARCH_S = phy.S2_SPLIT_INSPIRATION_S[1]
+#: The snap window opens no earlier than A2's envelope peak plus the interval's low
+#: end, less this allowance (s; our own): A2 peaks some 10-30 ms after its onset, and
+#: the published interval runs from the onset.
+A2_ONSET_ALLOWANCE_S = 0.01
+#: A2's pitch is measured on the frame centred this long (s) after its envelope
+#: peak: centred on the peak itself, the frame takes in the attack and reads A2
+#: higher, and a fifth of the true snaps of two benchmark draws fell under the
+#: pitch ratio (measured, see docs/findings.md).
+A2_PITCH_AFTER_PEAK_S = 0.005
 #: An ejection click is higher-pitched than S1 (clicks 100-300 Hz, S1 25-140 Hz per
 #: ``physiology``); its centroid must reach this multiple of S1's (our own margin).
 CLICK_PITCH_RATIO = 1.5
@@ -259,16 +272,21 @@ def find_extra_sounds(x: np.ndarray, fs: float, beats: Sequence,
                     hits["ejection_click"].append(1000.0 * (ev[1] - bt.s1_onset_s))
         # opening snap: 40-120 ms after A2, physiology.OPENING_SNAP_AFTER_A2_S; high
         # pitched, so it must stand out in the high band more than A2 itself does
+        # A2 is S2's loudest component, and in a paradoxically split S2 it comes last:
+        # the window opens after A2, so A2 itself is never taken for a snap
         lo, hi = phy.OPENING_SNAP_AFTER_A2_S
-        win = (s2 + lo + 0.01, min(s2 + hi + tol, s1n - 0.08))
+        a2_peak = s2 - 0.005 + float(np.argmax(
+            _seg(mid, rate, s2 - 0.005, s2 + A2_SEARCH_S)[0])) / rate
+        win = (max(s2 + lo + 0.01, a2_peak + lo - A2_ONSET_ALLOWANCE_S),
+               min(s2 + hi + tol, s1n - 0.08))
         if win[1] - win[0] > 0.02:
-            ev = _event(high, rate, win, q_dia_high, (s2 - 0.005, s2 + 0.03),
+            ev = _event(high, rate, win, q_dia_high, (s2 - 0.005, a2_peak + 0.03),
                         fall_s=SHORT_FALL_S, fall_db=SHORT_FALL_DB)
             if ev is not None:
-                a2_t = s2 + float(np.argmax(_seg(mid, rate, s2 - 0.005, s2 + 0.04)[0])) / rate
                 # higher-pitched than A2 (simulated and textbook snaps are): its
                 # centroid at least SNAP_PITCH_RATIO times that of A2
-                if _centroid_hz(x, fs, ev[0]) >= SNAP_PITCH_RATIO * _centroid_hz(x, fs, a2_t):
+                a2_pitch = _centroid_hz(x, fs, a2_peak + A2_PITCH_AFTER_PEAK_S)
+                if _centroid_hz(x, fs, ev[0]) >= SNAP_PITCH_RATIO * a2_pitch:
                     hits["opening_snap"].append(1000.0 * (ev[1] - s2))
         splits.append(_split_s2(mid, rate, bt))
 
