@@ -105,7 +105,7 @@ def row(spec, m: dict, events, beats, f, t_prep_s: float, t_findings_s: float) -
                           for k in ("S3", "S4", "click", "snap")},
         "extras": sorted(e.kind for e in f.extra_sounds),
         "t_split": spec.s2_split,
-        "split": next((("varies" if e.details["varies"] else "fixed")
+        "split": next(({True: "varies", False: "fixed", None: "narrow"}[e.details["varies"]]
                        for e in f.extra_sounds if e.kind == "split_S2"), "none"),
         "t_prep_s": t_prep_s, "t_findings_s": t_findings_s,
     }
@@ -242,10 +242,11 @@ def summarise(rows: list[dict], *, seed: int, beats: str, jobs: int, wall: float
         most, few, none = (f"{sum(kind in r['extras'] for r in g)}/{len(g)}" for g in groups)
         print(f"  {kind:15s} {most:>7s}   in fewer {few:>5s}   false {none}")
     conf = Counter((r["t_split"], r["split"]) for r in hi if "t_split" in r)
-    print("split S2, SNR >= 10 (simulated kind: reported none / fixed / varies):")
+    print("split S2, SNR >= 10 (simulated kind: reported none / fixed / varies / "
+          "steady but narrow):")
     for kind in sorted({k for k, _ in conf}):
         print(f"  {kind:13s} " + " / ".join(str(conf[(kind, v)])
-                                            for v in ("none", "fixed", "varies")))
+                                            for v in ("none", "fixed", "varies", "narrow")))
     prep = sum(r["t_prep_s"] for r in rows) / len(rows)
     fnd = sum(r["t_findings_s"] for r in rows) / len(rows)
     print(f"time per 15-s case: findings {fnd * 1000:.0f} ms, generate+condition+beats "

@@ -664,6 +664,22 @@ def test_split_heard_in_only_some_beats_is_not_called_fixed():
         "varies across the recording (as with breathing)", True)
 
 
+def test_steady_narrow_split_is_not_called_fixed():
+    # Common practice: a fixed split is a sign because it stays open on expiration;
+    # a steady split no wider than a normal expiratory one (up to 30 ms,
+    # physiology.S2_SPLIT_EXPIRATION_S, plus 5 ms of measuring jitter) is not called
+    # fixed. On the simulator a single S2 measures 23-29 ms (docs/findings.md).
+    from eddyphone.findings.extra import _split_variation
+
+    narrow = [0.026, 0.025, 0.027, 0.024, 0.026] * 4
+    text, varies = _split_variation(narrow)
+    assert varies is None
+    assert text == ("steady but no wider than a normal expiratory split (under 35 ms), "
+                    "so not judged fixed")
+    wide = [v + 0.015 for v in narrow]
+    assert _split_variation(wide) == ("fixed across the recording", False)
+
+
 def test_murmur_bands_do_not_skip_an_octave():
     # Our own rule: a turbulent murmur's spectrum is smooth, so its excess over the
     # floor does not skip an analysis band. Hand-built excess (dB) in the first five

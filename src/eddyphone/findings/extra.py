@@ -87,15 +87,22 @@ SPLIT_VARIES_S = 0.015
 #: beats closes in the others (single S2, as on expiration), so it is not fixed
 #: (common practice).
 FIXED_SPLIT_MIN_FRACTION = 0.8
+#: A split is called fixed only when it stays wider than a normal expiratory split
+#: (``physiology.S2_SPLIT_EXPIRATION_S``, up to 30 ms) by the measure's per-beat
+#: jitter (about 5 ms, our own): a fixed split is a sign because it stays open on
+#: expiration. Narrower, the measure cannot tell it from a single S2 either (one
+#: closure sound's envelope has two lobes some 24 ms apart; docs/findings.md).
+FIXED_SPLIT_MIN_S = phy.S2_SPLIT_EXPIRATION_S[1] + 0.005
 
 
-def _split_variation(splits: list[float | None]) -> tuple[str, bool]:
+def _split_variation(splits: list[float | None]) -> tuple[str, bool | None]:
     """Whether the A2-P2 interval varies across the recording, and how to say it.
 
     ``splits`` holds each beat's interval in s, None where S2 was single. A split
     missing from more than a fifth of the beats is not fixed
     (:data:`FIXED_SPLIT_MIN_FRACTION`); otherwise it varies when the 10th-90th
-    percentile spread reaches :data:`SPLIT_VARIES_S`.
+    percentile spread reaches :data:`SPLIT_VARIES_S`. A steady split narrower than
+    :data:`FIXED_SPLIT_MIN_S` is not judged (None).
     """
     heard = sum(v is not None for v in splits)
     if heard < FIXED_SPLIT_MIN_FRACTION * len(splits):
@@ -105,6 +112,9 @@ def _split_variation(splits: list[float | None]) -> tuple[str, bool]:
     spread = float(np.percentile(heard_s, 90) - np.percentile(heard_s, 10))
     if spread >= SPLIT_VARIES_S:
         return "varies across the recording (as with breathing)", True
+    if float(np.median(heard_s)) < FIXED_SPLIT_MIN_S:
+        return (f"steady but no wider than a normal expiratory split (under "
+                f"{1000 * FIXED_SPLIT_MIN_S:.0f} ms), so not judged fixed", None)
     return "fixed across the recording", False
 
 
