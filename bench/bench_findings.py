@@ -31,6 +31,8 @@ from collections import Counter
 from concurrent.futures import ProcessPoolExecutor
 from pathlib import Path
 
+from scipy.stats import binomtest
+
 
 def _prepare(spec, beats_from: str) -> dict:
     """Generate, condition and segment one case (what the findings take as input)."""
@@ -115,7 +117,9 @@ def _acc(pairs: list[tuple]) -> str:
     if not pairs:
         return "n/a (0)"
     ok = sum(a == b for a, b in pairs)
-    return f"{ok / len(pairs):.3f} ({ok}/{len(pairs)})"
+    ci = binomtest(ok, len(pairs)).proportion_ci(method="wilson")
+    lo, hi = ci.low, ci.high
+    return f"{ok / len(pairs):.3f} ({ok}/{len(pairs)}; 95 % interval {lo:.2f}-{hi:.2f})"
 
 
 def main() -> None:
