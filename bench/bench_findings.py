@@ -118,8 +118,7 @@ def _acc(pairs: list[tuple]) -> str:
         return "n/a (0)"
     ok = sum(a == b for a, b in pairs)
     ci = binomtest(ok, len(pairs)).proportion_ci(method="wilson")
-    lo, hi = ci.low, ci.high
-    return f"{ok / len(pairs):.3f} ({ok}/{len(pairs)}; 95 % interval {lo:.2f}-{hi:.2f})"
+    return f"{ok / len(pairs):.3f} ({ok}/{len(pairs)}; 95 % interval {ci.low:.2f}-{ci.high:.2f})"
 
 
 def main() -> None:
