@@ -327,6 +327,18 @@ def test_opening_snap_strengthens_inflow_narrowing():
     assert with_snap > plain
 
 
+def test_click_reported_only_as_possible_is_no_evidence():
+    # Our own rule: the findings hedge an ejection click at fast rates (a caution in
+    # its details); the explainer does not count it towards a narrowed orifice.
+    m = murmur()
+    click = ExtraSound("x1", "ejection_click", 0.9, 80.0, "after S1 onset")
+    hedged = ExtraSound("x1", "ejection_click", 0.4, 80.0, "after S1 onset",
+                        details={"caution": "possible: at 160 bpm ..."})
+    plain = scores(explain(findings(m)))["narrowed_orifice"]
+    assert scores(explain(findings(m, extras=(click,))))["narrowed_orifice"] > plain
+    assert scores(explain(findings(m, extras=(hedged,))))["narrowed_orifice"] == plain
+
+
 # --- assumptions and context -------------------------------------------------------
 
 def test_defaults_are_stated_and_disappear_with_context():

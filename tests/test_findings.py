@@ -875,3 +875,25 @@ def test_onset_of_a_harsh_ejection_murmur_is_not_an_ejection_click(monkeypatch):
     monkeypatch.setattr(extra_mod, "SHORT_SETTLE_S", None)
     _, without = _findings(spec)
     assert "ejection_click" in [e.kind for e in without.extra_sounds]
+
+
+def test_click_at_a_fast_rate_is_reported_as_possible():
+    # A benchmark recording (simulator truth: narrowed outflow, no click; 159 bpm):
+    # S1's end and the murmur's onset fall in the click's window. On the benchmark
+    # every false click came at 144 bpm or faster (extra.FAST_CLICK_BPM, our own
+    # edge), so a click there carries a caution and half its confidence.
+    from eddyphone.simulate import benchmark_specs
+
+    spec = next(s for s in benchmark_specs(600, seed=1) if s.seed == 100335)
+    sim, f = _findings(spec)
+    assert not spec.ejection_click and sim.truth["murmur"]["cause"] == "narrowed_outflow"
+    click = next(e for e in f.extra_sounds if e.kind == "ejection_click")
+    assert click.details["caution"].startswith("possible: at 16")
+    assert click.confidence <= 0.5
+    assert "possible" in click.describe()
+    # below the edge the same kind of click is reported plainly (simulator truth:
+    # narrowed outflow with a click, 75 bpm)
+    slow = next(s for s in benchmark_specs(600, seed=2) if s.seed == 200254)
+    _, g = _findings(slow)
+    plain = next(e for e in g.extra_sounds if e.kind == "ejection_click")
+    assert "caution" not in plain.details and slow.ejection_click

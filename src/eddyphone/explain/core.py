@@ -70,7 +70,9 @@ def explain(findings: object, *, context: object | None = None, recording: objec
     config = config or ExplainConfig()
     basis = resolve_basis(context, recording, segmentation, config)
     murmurs = tuple(getattr(findings, "murmurs", ()) or ())
-    extra_kinds = [e.kind for e in getattr(findings, "extra_sounds", ()) or ()]
+    # a sound the findings report only as possible (with a caution) is no evidence
+    extra_kinds = [e.kind for e in getattr(findings, "extra_sounds", ()) or ()
+                   if not (getattr(e, "details", None) or {}).get("caution")]
     per_finding: dict[str, tuple[Mechanism, ...]] = {}
     subjects: dict[str, str] = {}
     for m in murmurs:

@@ -231,7 +231,9 @@ class ExtraSound:
                  "S4": "S4 (presystolic atrial sound)",
                  "ejection_click": "early-systolic ejection click",
                  "opening_snap": "early-diastolic opening snap"}
-        return f"{names.get(self.kind, self.kind)}, {self.timing_ms:.0f} ms {self.reference}"
+        line = f"{names.get(self.kind, self.kind)}, {self.timing_ms:.0f} ms {self.reference}"
+        caution = self.details.get("caution")
+        return f"{line} ({caution})" if caution else line
 
     def to_dict(self) -> dict[str, Any]:
         """JSON-ready finding (``kind`` = 'extra_sound', ``sound`` = the kind)."""
