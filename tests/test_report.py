@@ -317,3 +317,24 @@ def test_a_regular_rhythm_with_a_large_rr_variation_says_why():
     assert words(premature).endswith("(misplaced or premature beats)")
     assert words(premature, irregular=True).startswith("RR variation")
     assert "premature" not in words(premature, irregular=True)
+
+
+def test_one_line_summary_names_the_companion_sounds():
+    """The CLI's one-line summary names an S3, S4, click or snap after the murmur (a
+    split S2 only when fixed: a varying one is the normal finding). Demo 08 has an
+    opening snap and demo 05 an S3 in the simulator's design; a click reported only
+    as possible says so."""
+    from dataclasses import replace
+
+    from eddyphone.cli.analyze import _extra_words, _one_line
+
+    rumble = eddyphone.analyze(MURMUR_CASE.parent / "08_diastolic_rumble.wav")
+    assert "; also opening snap; most likely:" in _one_line(rumble)
+    leak = eddyphone.analyze(MURMUR_CASE.parent / "05_systolic_leak.wav")
+    assert "; also S3;" in _one_line(leak)
+    assert "split" not in _extra_words(leak)  # its split varies
+    snap = next(e for e in rumble.findings.extra_sounds if e.kind == "opening_snap")
+    hedged = replace(snap, kind="ejection_click", details={"caution": "possible: ..."})
+    fixed = replace(snap, kind="split_S2", details={"varies": False})
+    both = replace(rumble, findings=replace(rumble.findings, extra_sounds=(hedged, fixed)))
+    assert _extra_words(both) == "; also ejection click (possible), fixed split S2"
