@@ -326,15 +326,16 @@ def test_one_line_summary_names_the_companion_sounds():
     as possible says so."""
     from dataclasses import replace
 
-    from eddyphone.cli.analyze import _extra_words, _one_line
+    from eddyphone.cli.analyze import _one_line
+    from eddyphone.report.text import companion_words
 
     rumble = eddyphone.analyze(MURMUR_CASE.parent / "08_diastolic_rumble.wav")
     assert "; also opening snap; most likely:" in _one_line(rumble)
     leak = eddyphone.analyze(MURMUR_CASE.parent / "05_systolic_leak.wav")
     assert "; also S3;" in _one_line(leak)
-    assert "split" not in _extra_words(leak)  # its split varies
+    assert "split" not in companion_words(leak)  # its split varies
     snap = next(e for e in rumble.findings.extra_sounds if e.kind == "opening_snap")
     hedged = replace(snap, kind="ejection_click", details={"caution": "possible: ..."})
     fixed = replace(snap, kind="split_S2", details={"varies": False})
     both = replace(rumble, findings=replace(rumble.findings, extra_sounds=(hedged, fixed)))
-    assert _extra_words(both) == "; also ejection click (possible), fixed split S2"
+    assert companion_words(both) == "; also ejection click (possible), fixed split S2"

@@ -165,7 +165,7 @@ def _one_line(analysis) -> str:
     s = analysis.summary()
     rate = f"{s['heart_rate_bpm']:.0f} bpm {s['rhythm']}" if s.get("heart_rate_bpm") else \
         "rate not found"
-    from eddyphone.report.text import cause_is_hedged, phase_words
+    from eddyphone.report.text import cause_is_hedged, companion_words, phase_words
 
     murmur = s.get("murmur", "uncertain")
     if murmur == "present":
@@ -186,26 +186,7 @@ def _one_line(analysis) -> str:
     else:
         tail = ""
     return (f"{analysis.recording.source}: {rate}; quality {s['quality_score']:.2f}; {murmur}"
-            f"{_extra_words(analysis)}{tail}")
-
-
-#: Companion sounds named in the one-line summary (a split S2 only when fixed: a
-#: varying one is the normal finding).
-_ONE_LINE_SOUNDS = {"S3": "S3", "S4": "S4", "ejection_click": "ejection click",
-                    "opening_snap": "opening snap"}
-
-
-def _extra_words(analysis) -> str:
-    """'; also S3, opening snap' for the one-line summary, or ''."""
-    found = getattr(analysis.findings, "extra_sounds", None) or ()
-    words = []
-    for e in found:
-        if e.kind in _ONE_LINE_SOUNDS:
-            possible = " (possible)" if e.details.get("caution") else ""
-            words.append(_ONE_LINE_SOUNDS[e.kind] + possible)
-        elif e.kind == "split_S2" and e.details.get("varies") is False:
-            words.append("fixed split S2")
-    return f"; also {', '.join(words)}" if words else ""
+            f"{companion_words(analysis)}{tail}")
 
 
 def _patient_views(analyses, out_dir, args) -> None:

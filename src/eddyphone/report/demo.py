@@ -124,7 +124,7 @@ def _line(analysis: Any) -> str:
     hr = s.get("heart_rate_bpm")
     rate = f"{hr:.0f} bpm" if text.finite_positive(hr) else "rate not found"
     murmur = s.get("murmur_description") or f"murmur {s.get('murmur')}"
-    return f"{analysis.recording.stem}: {rate}, {murmur}"
+    return f"{analysis.recording.stem}: {rate}, {murmur}{text.companion_words(analysis)}"
 
 
 def _patient_reports(done: list, out_dir: Path) -> list[Path]:

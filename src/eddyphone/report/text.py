@@ -19,6 +19,7 @@ skipped_rows(analysis) -> (header, rows)
 beat_rows(analysis) -> (header, rows)
 cautions(analysis) -> list of str
 rr_variation_words(rhythm) -> str
+companion_words(analysis) -> str
 provenance(analysis) -> list of (label, value)
 """
 
@@ -190,6 +191,25 @@ def extra_sound_lines(analysis: Any) -> list[str]:
         text = e.describe() if hasattr(e, "describe") else f"{e.kind}, {e.timing_ms:.0f} ms"
         out.append(f"{text} (confidence {e.confidence:.2f})")
     return out
+
+
+#: Companion sounds named in one-line summaries (a split S2 only when fixed: a
+#: varying one is the normal finding).
+_ONE_LINE_SOUNDS = {"S3": "S3", "S4": "S4", "ejection_click": "ejection click",
+                    "opening_snap": "opening snap"}
+
+
+def companion_words(analysis: Any) -> str:
+    """'; also S3, opening snap' for a one-line summary, or ''."""
+    found = getattr(analysis.findings, "extra_sounds", None) or ()
+    words = []
+    for e in found:
+        if e.kind in _ONE_LINE_SOUNDS:
+            possible = " (possible)" if e.details.get("caution") else ""
+            words.append(_ONE_LINE_SOUNDS[e.kind] + possible)
+        elif e.kind == "split_S2" and e.details.get("varies") is False:
+            words.append("fixed split S2")
+    return f"; also {', '.join(words)}" if words else ""
 
 
 @dataclass(frozen=True)
