@@ -166,6 +166,7 @@ def _write_index(out_dir: Path, source: Path, done: list, patients: list[Path],
         hr = s.get("heart_rate_bpm")
         rate = f"{hr:.0f}" if text.finite_positive(hr) else "—"
         found = s.get("murmur_description") or f"murmur {s.get('murmur', 'uncertain')}"
+        found += text.companion_words(analysis)
         cells = [
             f'<a href="{escape(html.name)}">{escape(analysis.recording.stem)}</a> · '
             f'<a href="{escape(pdf.name)}">PDF</a>',
@@ -187,7 +188,8 @@ def _write_index(out_dir: Path, source: Path, done: list, patients: list[Path],
         f"{escape(__version__)}. Each report embeds its sound, figures and teaching renders."
         "</p>"
         "<table><thead><tr><th>report</th><th>site</th><th class=\"num\">rate (bpm)</th>"
-        "<th>murmur found</th><th>most likely mechanism</th><th>how the case was made</th>"
+        "<th>murmur and companion sounds found</th><th>most likely mechanism</th>"
+        "<th>how the case was made</th>"
         f"</tr></thead><tbody>{''.join(rows)}</tbody></table>"
         + (f"<h2>Patient reports</h2><ul>{patient_links}</ul>" if patient_links else "")
         + (f"<h2>Failed</h2><ul>{fail}</ul>" if fail else ""))
