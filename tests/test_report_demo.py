@@ -49,7 +49,12 @@ def test_demo_writes_a_new_folder_each_time_and_links_every_report(small_set, tm
     # Every link of the index points at a file that exists.
     links = re.findall(r'href="([^"]+)"', index.read_text(encoding="utf-8"))
     assert len(links) >= 4 and all((out / link).exists() for link in links)
-    assert "made with: narrowed outflow murmur" in index.read_text(encoding="utf-8")
+    page = index.read_text(encoding="utf-8")
+    assert "made with: narrowed outflow murmur" in page
+    # the companion sounds the simulator designed in (03: S4, 05: S3) beside the murmur,
+    # in the index and in the printed lines
+    assert "; also S4" in page and "; also S3" in page
+    assert "; also S4" in first.stdout and "; also S3" in first.stdout
     before = {p.name: p.stat().st_mtime_ns for p in out.iterdir()}
     second = _demo(tmp_path, "--recordings", str(small_set))
     assert second.returncode == 0, second.stderr
