@@ -897,3 +897,18 @@ def test_click_at_a_fast_rate_is_reported_as_possible():
     _, g = _findings(slow)
     plain = next(e for e in g.extra_sounds if e.kind == "ejection_click")
     assert "caution" not in plain.details and slow.ejection_click
+
+
+def test_patient_summary_marks_a_possible_click():
+    # A click the findings report only as possible (details.caution) reads "(possible)"
+    # beside its site in the patient summary; a plain one does not.
+    from eddyphone.findings.records import ExtraSound, Findings
+
+    click = ExtraSound("x1", "ejection_click", 0.4, 80.0, "after S1 onset",
+                       details={"caution": "possible: at 160 bpm ..."})
+    plain = ExtraSound("x1", "S3", 0.9, 150.0, "after S2 onset")
+    f_aortic = Findings((), (click,), (), "absent", "no murmur")
+    f_mitral = Findings((), (plain,), (), "absent", "no murmur")
+    p = summarise_patient({"aortic": f_aortic, "mitral": f_mitral}, patient_id="P-0002")
+    assert "ejection click at the aortic area (possible)" in p.summary, p.summary
+    assert "S3 at the mitral area." in p.summary, p.summary

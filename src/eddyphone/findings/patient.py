@@ -191,9 +191,12 @@ def summarise_patient(analyses: Iterable | Mapping, *, patient_id: str | None = 
     else:
         presence = "uncertain"
     extras: dict[str, list[str]] = {}
+    possible: set[tuple[str, str]] = set()  # (kind, site) reported only as possible
     for s, f in pairs:
         for e in f.extra_sounds:
             extras.setdefault(e.kind, []).append(s)
+            if e.details.get("caution"):
+                possible.add((e.kind, s))
     if murmurs:
         text = " ".join(f"{m.description[0].upper()}{m.description[1:]}; {m.spread}."
                         for m in murmurs)
@@ -207,7 +210,8 @@ def summarise_patient(analyses: Iterable | Mapping, *, patient_id: str | None = 
         words = {"S3": "S3", "S4": "S4", "split_S2": "split S2",
                  "ejection_click": "ejection click", "opening_snap": "opening snap"}
         text += " Extra sounds: " + "; ".join(
-            f"{words.get(k, k)} at {', '.join(_area(s) for s in v)}"
+            f"{words.get(k, k)} at "
+            + ", ".join(_area(s) + (" (possible)" if (k, s) in possible else "") for s in v)
             for k, v in extras.items()) + "."
     return PatientSummary(patient_id=patient_id, sites=sites, presence=presence,
                           murmurs=tuple(murmurs),
