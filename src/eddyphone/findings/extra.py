@@ -349,8 +349,8 @@ def find_extra_sounds(x: np.ndarray, fs: float, beats: Sequence,
         conf = _conf(frac, n)
         if kind == "ejection_click" and rate_bpm > FAST_CLICK_BPM:
             conf *= 0.5
-            details["caution"] = (f"possible: at {rate_bpm:.0f} bpm S1's end and a systolic "
-                                  "murmur's onset also fall in the click's window")
+            details["caution"] = (f"possible: above {FAST_CLICK_BPM:.0f} bpm S1's end and a "
+                                  "systolic murmur's onset also fall in the click's window")
         out.append(ExtraSound(id="", kind=kind, confidence=conf, timing_ms=t_med,
                               reference=ref, details=details))
     heard = [v for v in splits if v is not None]
