@@ -68,9 +68,10 @@ SHORT_FALL_DB = 6.0
 #: moment, but carries on (false clicks 32 -> 23 on held-out benchmark draws).
 SHORT_SETTLE_S = (0.01, 0.04)
 #: Above this rate (bpm) an ejection click is reported with half its confidence and a
-#: caution: on the simulator's benchmark (seeds 1-7, n=600 each) every false click
-#: came at 144 bpm or faster, where S1's end and a flow or ejection murmur's onset
-#: fall in the click's window, and about half the clicks called there were false.
+#: caution: on the simulator's benchmark (seeds 1-7, n=600 each, its own beats) every
+#: false click came at 144 bpm or faster (with the segmenter's beats 11 of 14), where
+#: S1's end and a flow or ejection murmur's onset fall in the click's window, and
+#: about half the clicks called there were false.
 FAST_CLICK_BPM = 140.0
 #: A heart sound keeps its place in the cycle: the interquartile range of its timing
 #: across beats must stay within this many ms (our own limit; the simulated and
