@@ -72,7 +72,7 @@ def explain(findings: object, *, context: object | None = None, recording: objec
     murmurs = tuple(getattr(findings, "murmurs", ()) or ())
     # a sound the findings report only as possible (with a caution) is no evidence
     extra_kinds = [e.kind for e in getattr(findings, "extra_sounds", ()) or ()
-                   if not (getattr(e, "details", None) or {}).get("caution")]
+                   if not getattr(e, "possible", False)]
     per_finding: dict[str, tuple[Mechanism, ...]] = {}
     subjects: dict[str, str] = {}
     for m in murmurs:

@@ -19,7 +19,7 @@ from dataclasses import dataclass, field
 from typing import Any
 
 from eddyphone.errors import InputError
-from eddyphone.findings.records import Findings, Murmur
+from eddyphone.findings.records import SOUND_NAMES, Findings, Murmur
 
 
 @dataclass(frozen=True)
@@ -195,7 +195,7 @@ def summarise_patient(analyses: Iterable | Mapping, *, patient_id: str | None = 
     for s, f in pairs:
         for e in f.extra_sounds:
             extras.setdefault(e.kind, []).append(s)
-            if e.details.get("caution"):
+            if e.possible:
                 possible.add((e.kind, s))
     if murmurs:
         text = " ".join(f"{m.description[0].upper()}{m.description[1:]}; {m.spread}."
@@ -207,10 +207,8 @@ def summarise_patient(analyses: Iterable | Mapping, *, patient_id: str | None = 
         text = ("No murmur called with confidence; possible murmur or unreadable "
                 f"recording at {', '.join(_area(s) for s in unc)}.")
     if extras:
-        words = {"S3": "S3", "S4": "S4", "split_S2": "split S2",
-                 "ejection_click": "ejection click", "opening_snap": "opening snap"}
         text += " Extra sounds: " + "; ".join(
-            f"{words.get(k, k)} at "
+            f"{SOUND_NAMES.get(k, k)} at "
             + ", ".join(_area(s) + (" (possible)" if (k, s) in possible else "") for s in v)
             for k, v in extras.items()) + "."
     return PatientSummary(patient_id=patient_id, sites=sites, presence=presence,

@@ -197,6 +197,11 @@ class Murmur:
         }
 
 
+#: Short names of the extra sounds, for summaries that list them.
+SOUND_NAMES = {"S3": "S3", "S4": "S4", "split_S2": "split S2",
+               "ejection_click": "ejection click", "opening_snap": "opening snap"}
+
+
 @dataclass(frozen=True)
 class ExtraSound:
     """An extra heart sound.
@@ -222,6 +227,11 @@ class ExtraSound:
     reference: str
     details: Mapping[str, Any] = field(default_factory=dict)
 
+    @property
+    def possible(self) -> bool:
+        """Reported only as possible (``details['caution']`` says why)."""
+        return bool(self.details.get("caution"))
+
     def describe(self) -> str:
         """One line in the trade's words."""
         if self.kind == "split_S2":
@@ -232,8 +242,7 @@ class ExtraSound:
                  "ejection_click": "early-systolic ejection click",
                  "opening_snap": "early-diastolic opening snap"}
         line = f"{names.get(self.kind, self.kind)}, {self.timing_ms:.0f} ms {self.reference}"
-        caution = self.details.get("caution")
-        return f"{line} ({caution})" if caution else line
+        return f"{line} ({self.details['caution']})" if self.possible else line
 
     def to_dict(self) -> dict[str, Any]:
         """JSON-ready finding (``kind`` = 'extra_sound', ``sound`` = the kind)."""

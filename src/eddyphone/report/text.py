@@ -193,22 +193,18 @@ def extra_sound_lines(analysis: Any) -> list[str]:
     return out
 
 
-#: Companion sounds named in one-line summaries (a split S2 only when fixed: a
-#: varying one is the normal finding).
-_ONE_LINE_SOUNDS = {"S3": "S3", "S4": "S4", "ejection_click": "ejection click",
-                    "opening_snap": "opening snap"}
-
-
 def companion_words(analysis: Any) -> str:
-    """'; also S3, opening snap' for a one-line summary, or ''."""
-    found = getattr(analysis.findings, "extra_sounds", None) or ()
+    """'; also S3, opening snap' for a one-line summary, or '' (a split S2 only when
+    fixed: a varying one is the normal finding)."""
+    from eddyphone.findings.records import SOUND_NAMES
+
     words = []
-    for e in found:
-        if e.kind in _ONE_LINE_SOUNDS:
-            possible = " (possible)" if e.details.get("caution") else ""
-            words.append(_ONE_LINE_SOUNDS[e.kind] + possible)
-        elif e.kind == "split_S2" and e.details.get("varies") is False:
-            words.append("fixed split S2")
+    for e in getattr(analysis.findings, "extra_sounds", None) or ():
+        if e.kind == "split_S2":
+            if e.details.get("varies") is False:
+                words.append("fixed split S2")
+        else:
+            words.append(SOUND_NAMES.get(e.kind, e.kind) + (" (possible)" if e.possible else ""))
     return f"; also {', '.join(words)}" if words else ""
 
 
