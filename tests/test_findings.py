@@ -8,6 +8,7 @@ descriptions; trade conventions marked "common practice".
 from __future__ import annotations
 
 import json
+from dataclasses import replace
 
 import librosa
 import numpy as np
@@ -912,3 +913,42 @@ def test_patient_summary_marks_a_possible_click():
     p = summarise_patient({"aortic": f_aortic, "mitral": f_mitral}, patient_id="P-0002")
     assert "ejection click at the aortic area (possible)" in p.summary, p.summary
     assert "S3 at the mitral area." in p.summary, p.summary
+
+
+def _patient_findings(spec: CaseSpec) -> dict:
+    """Findings of one benchmark case recorded at every site (simulate.site_specs)."""
+    from eddyphone.simulate import site_specs
+
+    return {site: _findings(s)[1] for site, s in site_specs(spec).items()}
+
+
+def test_patient_murmur_in_one_recording_only_is_possible():
+    # A murmur-free benchmark patient (simulator truth: no murmur; flat chest piece,
+    # 22 dB, 146 bpm) whose tricuspid recording alone shows a diastolic excess called
+    # present, in 2 of 3 beats. A murmur called present in only one of several
+    # recordings, there in under 80 % of the beats, is possible for the patient
+    # (patient.MIN_RECORDINGS_PRESENT and ONE_RECORDING_CONSISTENCY, our own rule
+    # from bench/bench_patient.py: such calls were wrong more often than right).
+    from eddyphone.findings.patient import ONE_RECORDING_CONSISTENCY
+    from eddyphone.simulate import benchmark_specs
+
+    spec = next(s for s in benchmark_specs(600, seed=1) if s.seed == 100410)
+    assert spec.murmur is None
+    per_site = _patient_findings(spec)
+    called = [s for s, f in per_site.items() if f.presence == "present"]
+    assert called == ["tricuspid"]  # the recording's own call stands
+    assert per_site["tricuspid"].main().consistency < ONE_RECORDING_CONSISTENCY
+    p = summarise_patient(per_site, patient_id="P-0003")
+    assert p.presence == "uncertain"
+    m = p.murmurs[0]
+    assert m.possible and m.present_at == ("tricuspid",)
+    assert p.summary.startswith("Possible: ") and "1 of the 4 recordings only" in p.summary
+    d = json.loads(json.dumps(p.to_dict()))
+    assert d["murmurs"][0]["possible"] is True and d["murmurs"][0]["present_at"] == called
+    # the same recording alone is the patient's only evidence: present
+    alone = summarise_patient({"tricuspid": per_site["tricuspid"]})
+    assert alone.presence == "present" and not alone.murmurs[0].possible
+    # and a murmur seen in most beats of its one recording counts for the patient
+    firm = replace(per_site["tricuspid"].main(), consistency=ONE_RECORDING_CONSISTENCY)
+    per_site["tricuspid"] = replace(per_site["tricuspid"], murmurs=(firm,))
+    assert summarise_patient(per_site).presence == "present"

@@ -12,10 +12,16 @@ Public names
 CaseSpec, MurmurSpec, MURMUR_CAUSES, SITES
 generate, Simulated
 write, truth_rows
-demo_specs, benchmark_specs, write_benchmark, write_demo
+demo_specs, benchmark_specs, site_specs, write_benchmark, write_demo
 """
 
-from eddyphone.simulate.cases import benchmark_specs, demo_specs, write_benchmark, write_demo
+from eddyphone.simulate.cases import (
+    benchmark_specs,
+    demo_specs,
+    site_specs,
+    write_benchmark,
+    write_demo,
+)
 from eddyphone.simulate.generator import Simulated, generate
 from eddyphone.simulate.spec import MURMUR_CAUSES, SITES, CaseSpec, MurmurSpec
 from eddyphone.simulate.writer import truth_rows, write
@@ -29,6 +35,7 @@ __all__ = [
     "benchmark_specs",
     "demo_specs",
     "generate",
+    "site_specs",
     "truth_rows",
     "write",
     "write_benchmark",

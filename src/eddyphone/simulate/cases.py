@@ -6,6 +6,8 @@ demo_specs
     The demo cases by name (a fictional community clinic's afternoon list).
 benchmark_specs
     ``n`` graded cases over SNR, heart rate, murmur cause, rate and device.
+site_specs
+    One case recorded at each auscultation site (a patient's examination round).
 write_demo, write_benchmark
     Generate and write a set, with an ``index.csv``.
 """
@@ -297,6 +299,17 @@ def _write_set(specs: dict[str, CaseSpec], out_dir: str | Path, *, overwrite: bo
         w.writeheader()
         w.writerows(rows)
     return index
+
+
+def site_specs(spec: CaseSpec) -> dict[str, CaseSpec]:
+    """The case recorded at each auscultation site of :data:`SITES`.
+
+    Same murmur, rate, rhythm, device, SNR and kinds of noise; each site its own
+    seed (``10 * spec.seed + k``: its own beats, breaths and noise), and the murmur at
+    the simulator's level for that site.
+    """
+    return {site: spec.with_(site=site, seed=10 * spec.seed + k)
+            for k, site in enumerate(SITES)}
 
 
 def write_benchmark(out_dir: str | Path, n: int, seed: int = 0, *, overwrite: bool = False
