@@ -11,6 +11,7 @@ write_patient(summary, analyses, out_dir, *, overwrite=False, stem=None) -> dict
 from __future__ import annotations
 
 import io
+import textwrap
 from collections.abc import Mapping, Sequence
 from html import escape
 from pathlib import Path
@@ -71,7 +72,8 @@ def sites_figure(analyses: Sequence[Any]):
         axes = np.atleast_1d(fig.subplots(rows, cols, sharey=True, squeeze=False)).ravel()
         for ax, a in zip(axes, items):
             img, t, beats = ensemble_matrix(a)
-            ax.set_title(f"{_site(a)}\n{_murmur_short(a)}", fontsize=8.5)
+            short = "\n".join(textwrap.wrap(_murmur_short(a), 18))
+            ax.set_title(f"{_site(a)}\n{short}", fontsize=8.5)
             if not beats:
                 ax.text(0.5, 0.5, "no beats", transform=ax.transAxes, ha="center",
                         color=palette.MUTED)
@@ -134,7 +136,8 @@ def _summary_facts(summary: Any) -> list[tuple[str, str]]:
     if murmurs is not None:
         out.append(("Murmur", str(getattr(summary, "presence", "—"))))
         for m in murmurs:
-            out.append((f"{m.phase.capitalize()} murmur", f"{m.description}; {m.spread}"))
+            label = f"{m.phase.capitalize()} murmur" + (" (possible)" if m.possible else "")
+            out.append((label, f"{m.description}; {m.spread}"))
         for kind, sites in (getattr(summary, "extra_sounds", {}) or {}).items():
             out.append((f"{kind.replace('_', ' ')}", "heard at " + ", ".join(sites)))
         if getattr(summary, "summary", ""):
