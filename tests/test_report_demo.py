@@ -62,6 +62,33 @@ def test_demo_writes_a_new_folder_each_time_and_links_every_report(small_set, tm
     assert {p.name: p.stat().st_mtime_ns for p in out.iterdir()} == before  # untouched
 
 
+def test_demo_writes_the_patient_report_of_the_four_areas(tmp_path):
+    # The bundled patient examined at the four areas (index.csv names the patient):
+    # the demo adds the patient report and a line on how the murmur spreads. The
+    # simulator made the leaking inflow valve's murmur loudest at the mitral area and
+    # 3 dB softer at the tricuspid area (simulate.generator.MURMUR_SITE_DB, common
+    # practice for where each murmur is loudest).
+    from eddyphone.simulate.cases import DEMO_PATIENT, DEMO_PATIENT_PREFIX
+
+    folder = tmp_path / "recordings"
+    folder.mkdir()
+    lines = (SAMPLE_AUDIO / "index.csv").read_text().splitlines()
+    keep = [lines[0]] + [ln for ln in lines[1:] if ln.startswith(DEMO_PATIENT_PREFIX)]
+    assert len(keep) == 5
+    (folder / "index.csv").write_text("\n".join(keep) + "\n")
+    for wav in SAMPLE_AUDIO.glob(f"{DEMO_PATIENT_PREFIX}*.wav"):
+        shutil.copy(wav, folder / wav.name)
+    result = _demo(tmp_path, "--recordings", str(folder), "--out", "out")
+    assert result.returncode == 0, result.stderr
+    line = next(ln for ln in result.stdout.splitlines() if f"patient {DEMO_PATIENT}" in ln)
+    assert "4 recordings: systolic murmur, loudest at the mitral area" in line, line
+    assert "softer at the tricuspid area" in line
+    report = tmp_path / "out" / f"patient-{DEMO_PATIENT}.report.html"
+    assert report.exists() and f"out/{report.name}" in result.stdout
+    assert "and 1 patient report(s)" in result.stdout
+    assert f'href="{report.name}"' in (tmp_path / "out" / "index.html").read_text()
+
+
 def test_demo_refuses_an_existing_out_folder(tmp_path):
     (tmp_path / "taken").mkdir()
     result = _demo(tmp_path, "--out", "taken")

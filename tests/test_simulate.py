@@ -15,6 +15,7 @@ from eddyphone import physiology as ph
 from eddyphone.errors import InputError, ParameterError
 from eddyphone.simulate import (
     MURMUR_CAUSES,
+    SITES,
     CaseSpec,
     MurmurSpec,
     benchmark_specs,
@@ -388,10 +389,16 @@ def test_benchmark_set_is_graded():
 
 
 def test_demo_set_shape():
+    from eddyphone.simulate.cases import DEMO_PATIENT_PREFIX
+
     specs = demo_specs()
-    assert 6 <= len(specs) <= 10
+    assert 6 <= len(specs) <= 14
     for spec in specs.values():
         assert spec.duration_s <= 20 and spec.fs == 4000 and spec.bit_depth == 16
+    # one patient examined at the four areas: the same case but for site and seed
+    round_ = {k: v for k, v in specs.items() if k.startswith(DEMO_PATIENT_PREFIX)}
+    assert sorted(v.site for v in round_.values()) == sorted(SITES)
+    assert len({v.with_(site="mitral", seed=0, note="") for v in round_.values()}) == 1
 
 
 def test_bad_specs_raise():

@@ -7,6 +7,7 @@ import subprocess
 import sys
 
 from eddyphone.cli import main
+from eddyphone.simulate import demo_specs
 
 
 def test_demo_cases_written(tmp_path, capsys):
@@ -64,5 +65,6 @@ def test_rewriting_one_case_keeps_the_index(tmp_path):
     assert main(["simulate", "--out", str(out), "--case", "05_systolic_leak", "--overwrite"]) == 0
     with open(out / "index.csv") as fh:
         ids = [r["id"] for r in csv.DictReader(fh)]
-    assert len(ids) == 10 and "01_resting_adult" in ids
-    assert (out / "README.md").read_text().count("| `") == 10
+    n = len(demo_specs())
+    assert len(ids) == n and "01_resting_adult" in ids
+    assert (out / "README.md").read_text().count("| `") == n

@@ -43,8 +43,10 @@ def run(args: argparse.Namespace) -> int:
     result = run_demo(source, out, progress=lambda line: print("  " + line, flush=True))
     for failure in result.failures:
         print(f"eddyphone: {failure}", file=sys.stderr)
-    print(f"done in {time.perf_counter() - start:.0f} s: {len(result.reports)} reports")
+    patients = (f" and {len(result.patient_reports)} patient report(s)"
+                if result.patient_reports else "")
+    print(f"done in {time.perf_counter() - start:.0f} s: {len(result.reports)} reports{patients}")
     print(f"open the index:   {result.index}")
-    for path in result.reports:
+    for path in result.reports + result.patient_reports:
         print(f"  {path}")
     return 1 if result.failures else 0

@@ -23,13 +23,15 @@ AUDIO_SUFFIXES = (".wav", ".flac", ".ogg", ".hea")
 
 @dataclass(frozen=True)
 class DemoResult:
-    """What the demo wrote: the index page, one report per recording, failures."""
+    """What the demo wrote: the index page, one report per recording and per patient
+    (recordings that index.csv gives a patient), failures."""
 
     out_dir: Path
     index: Path
     reports: tuple[Path, ...]
     failures: tuple[str, ...]
     recordings: Path
+    patient_reports: tuple[Path, ...] = ()
 
 
 def find_sample_audio() -> Path:
@@ -114,9 +116,10 @@ def run_demo(source: str | Path, out_dir: str | Path, *,
         done.append((analysis, row, written["html"]))
         if progress is not None:
             progress(_line(analysis))
-    patients = _patient_reports(done, out_dir)
+    patients = _patient_reports(done, out_dir, progress)
     index = _write_index(out_dir, source, done, patients, failures)
-    return DemoResult(out_dir, index, tuple(p for _, _, p in done), tuple(failures), source)
+    return DemoResult(out_dir, index, tuple(p for _, _, p in done), tuple(failures), source,
+                      tuple(patients))
 
 
 def _line(analysis: Any) -> str:
@@ -127,25 +130,33 @@ def _line(analysis: Any) -> str:
     return f"{analysis.recording.stem}: {rate}, {murmur}{text.companion_words(analysis)}"
 
 
-def _patient_reports(done: list, out_dir: Path) -> list[Path]:
+def _patient_reports(done: list, out_dir: Path,
+                     progress: Callable[[str], None] | None = None) -> list[Path]:
+    from eddyphone.findings import summarise_patient
+    from eddyphone.report import write_patient_report
+
     groups: dict[str, list] = {}
     for analysis, _, _ in done:
         if analysis.recording.patient:
             groups.setdefault(analysis.recording.patient, []).append(analysis)
     paths = []
-    for group in groups.values():
+    for patient, group in groups.items():
         if len(group) < 2:
             continue
-        try:
-            from eddyphone.findings import summarise_patient
-
-            summary = summarise_patient(group)
-        except ImportError:
-            summary = None
-        from eddyphone.report import write_patient_report
-
+        summary = summarise_patient(group, patient_id=patient)
         paths.append(write_patient_report(summary, group, out_dir)["html"])
+        if progress is not None:
+            progress(_patient_line(summary))
     return paths
+
+
+def _patient_line(summary: Any) -> str:
+    """One line per patient: the main murmur and how it spreads over the sites."""
+    head = f"patient {summary.patient_id}, {len(summary.sites)} recordings: "
+    if not summary.murmurs:
+        return head + f"murmur {summary.presence}"
+    m = summary.murmurs[0]
+    return head + ("possible " if m.possible else "") + f"{m.phase} murmur, {m.spread}"
 
 
 def _write_index(out_dir: Path, source: Path, done: list, patients: list[Path],

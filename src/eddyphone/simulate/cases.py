@@ -24,8 +24,13 @@ from eddyphone.simulate.spec import MURMUR_CAUSES, SITES, CaseSpec, MurmurSpec
 
 #: The invented scenario of the demo set.
 DEMO_SCENARIO = ("Afternoon list of the Quillan Row Community Clinic, a fictional clinic: "
-                 "ten recordings taken by its nurse practitioner. Every patient is invented "
-                 "and every sound is synthetic.")
+                 "ten recordings taken by its nurse practitioner, and one patient examined "
+                 "at all four areas. Every patient is invented and every sound is synthetic.")
+
+#: The demo patient examined at the four areas: its recordings are named
+#: ``<DEMO_PATIENT_PREFIX><site>`` and ``index.csv`` names the patient.
+DEMO_PATIENT = "QR-11"
+DEMO_PATIENT_PREFIX = "11_four_areas_"
 
 
 def _d_from_area_cm2(area_cm2: float) -> float:
@@ -33,7 +38,8 @@ def _d_from_area_cm2(area_cm2: float) -> float:
 
 
 def demo_specs() -> dict[str, CaseSpec]:
-    """The demo set: ten cases of at most 20 s at 4 kHz, 16-bit.
+    """The demo set: ten single recordings and one patient's four areas (fourteen
+    cases), each at most 20 s at 4 kHz, 16-bit.
 
     Returns
     -------
@@ -97,6 +103,14 @@ def demo_specs() -> dict[str, CaseSpec]:
             note="Young adult with an open shunt; continuous murmur through S2, "
                  "occasional early beats"),
     }
+    round_ = base.with_(
+        heart_rate_bpm=72, site="mitral", device="diaphragm", snr_db=22, breathing=0.3,
+        seed=111,
+        murmur=MurmurSpec(cause="systolic_leak", diameter_m=0.004, velocity_m_s=5.0))
+    for site, spec in site_specs(round_).items():
+        cases[f"{DEMO_PATIENT_PREFIX}{site}"] = spec.with_(
+            note=f"Patient {DEMO_PATIENT}, breathless on exertion, examined at the four "
+                 f"areas: {site} area; leaking inflow valve, loudest at the apex")
     return cases
 
 
@@ -220,7 +234,7 @@ def benchmark_specs(n: int, *, seed: int = 0, duration_s: float = 15.0) -> list[
 
 _INDEX_FIELDS = ["id", "file", "truth_csv", "truth_json", "heart_rate_bpm", "rhythm",
                  "n_premature", "fs_hz", "duration_s", "snr_db", "device", "site",
-                 "murmur_present", "murmur_audible_in_recording", "murmur_to_noise_db",
+                 "patient", "murmur_present", "murmur_audible_in_recording", "murmur_to_noise_db",
                  "murmur_cause", "murmur_phase", "murmur_timing",
                  "murmur_shape", "murmur_measured_timing", "murmur_measured_shape",
                  "murmur_grade", "murmur_level_db_re_s1", "murmur_pitch", "murmur_quality",
@@ -240,6 +254,7 @@ def _index_row(case_id: str, sim, spec: CaseSpec) -> dict:
         "rhythm": spec.rhythm, "n_premature": t["rhythm"]["n_premature"],
         "fs_hz": int(spec.fs), "duration_s": spec.duration_s,
         "snr_db": round(t["noise"]["snr_db"], 2), "device": spec.device, "site": spec.site,
+        "patient": DEMO_PATIENT if case_id.startswith(DEMO_PATIENT_PREFIX) else "",
         "murmur_present": m["present"],
         "murmur_audible_in_recording": m.get("audible_in_recording", False),
         "murmur_to_noise_db": round(m["murmur_to_noise_db"], 1)
