@@ -121,12 +121,19 @@ def _acc(pairs: list[tuple]) -> str:
     return f"{ok / len(pairs):.3f} ({ok}/{len(pairs)}; 95 % interval {ci.low:.2f}-{ci.high:.2f})"
 
 
-def main() -> None:
-    ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+def draw_parser(doc: str) -> argparse.ArgumentParser:
+    """Options the findings benchmarks share: the draw (``--n``, ``--seed``), where the
+    beats come from (``--beats``) and the worker processes (``--jobs``)."""
+    ap = argparse.ArgumentParser(description=doc.splitlines()[0])
     ap.add_argument("--n", type=int, default=150)
     ap.add_argument("--seed", type=int, default=1)
     ap.add_argument("--beats", choices=("truth", "hsmm"), default="truth")
     ap.add_argument("--jobs", type=int, default=2)
+    return ap
+
+
+def main() -> None:
+    ap = draw_parser(__doc__)
     ap.add_argument("--worst", type=int, default=12)
     ap.add_argument("--rows", help="also write the per-case rows to this JSON file")
     ap.add_argument("--cache", help="keep each case's conditioned samples and beats in this "

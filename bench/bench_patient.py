@@ -22,13 +22,12 @@ beside them the same figures for the single recordings of the same run.
 
 from __future__ import annotations
 
-import argparse
 import json
 import time
 from collections import Counter
 from concurrent.futures import ProcessPoolExecutor
 
-from bench_findings import _acc, _prepare
+from bench_findings import _acc, _prepare, draw_parser
 
 
 def _patient(args: tuple) -> dict:
@@ -131,11 +130,7 @@ def summarise(rows: list[dict], *, seed: int, beats: str, jobs: int, wall: float
 
 
 def main() -> None:
-    ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
-    ap.add_argument("--n", type=int, default=150)
-    ap.add_argument("--seed", type=int, default=1)
-    ap.add_argument("--beats", choices=("truth", "hsmm"), default="truth")
-    ap.add_argument("--jobs", type=int, default=2)
+    ap = draw_parser(__doc__)
     ap.add_argument("--rows", help="also write the per-patient rows to this JSON file")
     a = ap.parse_args()
     from eddyphone.simulate import benchmark_specs
