@@ -431,3 +431,37 @@ def test_unreachable_scheduler_is_an_input_error(study, tmp_path):
     with pytest.raises(InputError, match="scheduler"):
         run_batch([study / "ward_a"], tmp_path / "out", scheduler="tcp://127.0.0.1:9",
                   progress=False)
+
+
+def test_patients_named_by_the_manifest_get_a_patient_table(tmp_path):
+    # The bundled patient examined at the four areas, plus a recording without a
+    # patient. The simulator made the leaking inflow valve's murmur loudest at the
+    # mitral area (simulate.generator.MURMUR_SITE_DB, common practice); the table row
+    # must agree with summarise_patient run directly on the same files (the patient
+    # view of `eddyphone analyze`), and a run without patients writes no table.
+    from _report_data import SAMPLE_AUDIO
+
+    from eddyphone import analyze
+    from eddyphone.findings import summarise_patient
+    from eddyphone.io import load
+    from eddyphone.simulate.cases import DEMO_PATIENT, DEMO_PATIENT_PREFIX
+
+    wavs = sorted(SAMPLE_AUDIO.glob(f"{DEMO_PATIENT_PREFIX}*.wav"))
+    manifest = tmp_path / "manifest.csv"
+    sites = [w.stem.removeprefix(DEMO_PATIENT_PREFIX) for w in wavs]
+    manifest.write_text("path,patient,site\n" + "".join(
+        f"{w},{DEMO_PATIENT},{s}\n" for w, s in zip(wavs, sites))
+        + f"{SAMPLE_AUDIO / '01_resting_adult.wav'},,mitral\n")
+    table = run_batch([manifest], tmp_path / "out", workers=2, progress=False)
+    patients = pd.read_parquet(table.attrs["paths"]["patients"])
+    assert len(patients) == 1
+    row = patients.iloc[0]
+    assert (row["patient"], row["recordings"], row["presence"]) == (DEMO_PATIENT, 4, "present")
+    assert row["main_phase"] == "systolic" and row["main_loudest_site"] == "mitral"
+    direct = summarise_patient([analyze(load(w, site=s)) for w, s in zip(wavs, sites)],
+                               patient_id=DEMO_PATIENT)
+    assert row["summary"] == direct.summary
+    solo = run_batch([SAMPLE_AUDIO / "01_resting_adult.wav"], tmp_path / "solo", workers=1,
+                     progress=False)
+    assert "patients" not in solo.attrs["paths"]
+    assert not (tmp_path / "solo" / "patients.parquet").exists()

@@ -952,3 +952,20 @@ def test_patient_murmur_in_one_recording_only_is_possible():
     firm = replace(per_site["tricuspid"].main(), consistency=ONE_RECORDING_CONSISTENCY)
     per_site["tricuspid"] = replace(per_site["tricuspid"], murmurs=(firm,))
     assert summarise_patient(per_site).presence == "present"
+
+
+def test_findings_read_back_from_their_json():
+    # The output contract's findings list reads back into the same findings (what the
+    # batch's patient table is built from): demo 08's murmur, opening snap and split
+    # S2, through the standard library's JSON round trip.
+    from eddyphone.findings.records import Findings
+    from eddyphone.simulate import demo_specs
+
+    sim = generate(demo_specs()["08_diastolic_rumble"])
+    c = condition(sim.x, sim.fs)
+    f = describe(c.x, c.fs, _truth_beats(sim))
+    data = json.loads(json.dumps(f.to_list()))
+    back = Findings.from_json(data, f.presence, f.presence_reason)
+    assert back.to_list() == data
+    assert back.main().describe() == f.main().describe()
+    assert [e.kind for e in back.extra_sounds] == [e.kind for e in f.extra_sounds]

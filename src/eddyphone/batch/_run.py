@@ -101,8 +101,9 @@ def run(inputs: Any, out_dir: str | Path, *, workers: int | None, scheduler: str
             bar.close()
         table, errors, beat_table = _consolidate(items, keys, hashes, hash_errors, records,
                                                  store if beats else None)
+        patients = _patient_table(items, keys, records)
         paths = _write_outputs(out_dir, fmt, table, errors, beat_table if beats else None,
-                               items, keys, store if per_recording_json else None)
+                               items, keys, store if per_recording_json else None, patients)
         counts = {"recordings": len(items), "analysed": len(tasks),
                   "reused": sum(k in reused for k in keys if k is not None),
                   "failed": len(errors), "succeeded": len(table)}
@@ -194,13 +195,57 @@ def _consolidate(items: Sequence[BatchItem], keys: Sequence[str | None],
     return harmonise(table), error_table, harmonise(beat_table)
 
 
+def _patient_table(items: Sequence[BatchItem], keys: Sequence[str | None],
+                   records: Mapping[str, Mapping[str, Any]]) -> Any:
+    """One row per patient named by the manifest (:func:`summarise_patient` over the
+    patient's recordings that succeeded), or None when no recording has a patient."""
+    import pandas as pd
+
+    from eddyphone.findings import summarise_patient
+    from eddyphone.findings.records import Findings
+
+    groups: dict[str, list[tuple[str, Findings]]] = {}
+    paths: dict[str, list[str]] = {}
+    for item, key in zip(items, keys):
+        record = records.get(key) if key is not None else None
+        if not record or record["status"] != "ok" or "findings" not in record:
+            continue
+        patient = str(record["features"].get("patient"))
+        f = record["findings"]
+        site = record["features"].get("site") or Path(item.path).stem
+        groups.setdefault(patient, []).append(
+            (site, Findings.from_json(f["list"], f["presence"], f["reason"])))
+        paths.setdefault(patient, []).append(item.path)
+    if not groups:
+        return None
+    rows = []
+    for patient, pairs in groups.items():
+        p = summarise_patient(pairs, patient_id=patient)
+        main = next((m for m in p.murmurs if not m.possible), None)
+        rows.append({
+            "patient": patient, "recordings": len(pairs), "sites": "; ".join(p.sites),
+            "presence": p.presence,
+            "phases": "; ".join(m.phase for m in p.murmurs if not m.possible),
+            "possible_phases": "; ".join(m.phase for m in p.murmurs if m.possible),
+            "main_phase": main.phase if main else None,
+            "main_loudest_site": main.loudest_site if main else None,
+            "main_present_at": "; ".join(main.present_at) if main else None,
+            "main_description": main.description if main else None,
+            "main_spread": main.spread if main else None,
+            "extra_sounds": "; ".join(p.extra_sounds), "summary": p.summary,
+            "paths": "; ".join(paths[patient])})
+    return harmonise(pd.DataFrame(rows))
+
+
 def _write_outputs(out_dir: Path, fmt: str, table: Any, errors: Any, beat_table: Any,
                    items: Sequence[BatchItem], keys: Sequence[str | None],
-                   store: Store | None) -> dict[str, Path]:
+                   store: Store | None, patients: Any = None) -> dict[str, Path]:
     suffix = ".parquet" if fmt == "parquet" else ".csv"
     paths = {"features": write_table(table, out_dir / f"features{suffix}", fmt)}
     if beat_table is not None:
         paths["beats"] = write_table(beat_table, out_dir / f"beats{suffix}", fmt)
+    if patients is not None:
+        paths["patients"] = write_table(patients, out_dir / f"patients{suffix}", fmt)
     paths["errors"] = write_errors(errors.itertuples(index=False, name=None),
                                    out_dir / "errors.csv")
     if store is not None:

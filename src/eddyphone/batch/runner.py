@@ -44,9 +44,10 @@ def analyse_task(task: Mapping[str, Any]) -> dict[str, Any]:
     Returns
     -------
     dict
-        ``status`` 'ok' with ``features``, ``beats`` (and ``analysis`` when
-        ``want_json``), or 'error' with a one-line ``error`` and ``cacheable``
-        (True for problems of the input itself, which a re-run would meet again).
+        ``status`` 'ok' with ``features``, ``beats`` (``findings`` when the recording
+        has a patient; ``analysis`` when ``want_json``), or 'error' with a one-line
+        ``error`` and ``cacheable`` (True for problems of the input itself, which a
+        re-run would meet again).
     """
     start, cpu_start = time.perf_counter(), time.process_time()
     record: dict[str, Any] = {"key": task["key"], "path": task["path"]}
@@ -66,6 +67,11 @@ def analyse_task(task: Mapping[str, Any]) -> dict[str, Any]:
             if name == "eddyphone_version":
                 features["code_digest"] = code
         record.update(status="ok", features=features, beats=beat_rows(data))
+        if data["recording"].get("patient"):
+            # what the patient table needs: every finding, not only the main murmur
+            record["findings"] = {"list": data["findings"],
+                                  "presence": data["summary"]["murmur"],
+                                  "reason": data["summary"].get("murmur_reason") or ""}
         if task.get("want_json"):
             record["analysis"] = data
     record["elapsed_s"] = round(time.perf_counter() - start, 4)

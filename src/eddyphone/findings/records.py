@@ -12,8 +12,8 @@ GRADE_NAMES
 from __future__ import annotations
 
 import math
-from collections.abc import Mapping
-from dataclasses import dataclass, field
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass, field, fields
 from typing import Any
 
 from eddyphone.findings.config import pitch_word
@@ -160,6 +160,11 @@ class Murmur:
                 f"in {self.beats_with_murmur}/{self.beats_used} beats")
         return text if self.presence == "present" else f"possible {text}"
 
+    @classmethod
+    def from_dict(cls, d: Mapping[str, Any]) -> Murmur:
+        """The murmur back from its :meth:`to_dict` (JSON nulls read as NaN)."""
+        return cls(**_fields_from(cls, d))
+
     def to_dict(self) -> dict[str, Any]:
         """JSON-ready finding (``kind`` = 'murmur')."""
         return {
@@ -244,6 +249,11 @@ class ExtraSound:
         line = f"{names.get(self.kind, self.kind)}, {self.timing_ms:.0f} ms {self.reference}"
         return f"{line} ({self.details['caution']})" if self.possible else line
 
+    @classmethod
+    def from_dict(cls, d: Mapping[str, Any]) -> ExtraSound:
+        """The sound back from its :meth:`to_dict`."""
+        return cls(**_fields_from(cls, {**d, "kind": d["sound"]}))
+
     def to_dict(self) -> dict[str, Any]:
         """JSON-ready finding (``kind`` = 'extra_sound', ``sound`` = the kind)."""
         return {"id": self.id, "kind": "extra_sound", "sound": self.kind,
@@ -306,6 +316,18 @@ class Findings:
     presence_reason: str
     noise_floor_db_re_hs: float | None = None
 
+    @classmethod
+    def from_json(cls, findings: Sequence[Mapping[str, Any]], presence: str,
+                  presence_reason: str = "") -> Findings:
+        """Findings back from the output contract's ``findings`` list and the
+        recording-level presence (``summary.murmur``); the per-beat measures are not in
+        that list and stay empty."""
+        return cls(murmurs=tuple(Murmur.from_dict(d) for d in findings
+                                 if d.get("kind") == "murmur"),
+                   extra_sounds=tuple(ExtraSound.from_dict(d) for d in findings
+                                      if d.get("kind") == "extra_sound"),
+                   beat_measures=(), presence=presence, presence_reason=presence_reason)
+
     def main(self) -> Murmur | None:
         """The main murmur (first listed), or None."""
         return self.murmurs[0] if self.murmurs else None
@@ -331,6 +353,22 @@ class Findings:
             "extra_sounds": [e.kind for e in self.extra_sounds],
             "murmur_reason": self.presence_reason,
         }
+
+
+def _fields_from(cls: type, d: Mapping[str, Any]) -> dict[str, Any]:
+    """The dataclass fields of ``cls`` found in ``d``: JSON lists as tuples, nulls of
+    float fields as NaN."""
+    out: dict[str, Any] = {}
+    for f in fields(cls):
+        if f.name not in d:
+            continue
+        v = d[f.name]
+        if isinstance(v, list):
+            v = tuple(v)
+        elif v is None and f.type == "float":
+            v = float("nan")
+        out[f.name] = v
+    return out
 
 
 def _plain(value: Any) -> Any:
