@@ -136,6 +136,9 @@ def test_patient_view_writes_a_patient_summary(tmp_path):
     assert sorted(data["patient"]["sites"]) == ["aortic", "mitral"]
     assert data["mechanisms"] and any("not a diagnosis" in c for c in data["cautions"])
     assert not (out / "patient-Q7.report.html").exists()  # --no-report is honoured
+    # one line for the patient: both simulated murmurs are systolic (narrowed outflow
+    # at the aortic area, leaking inflow valve at the mitral area)
+    assert "patient Q7, 2 recordings: systolic murmur, loudest at the " in result.stdout
 
 
 def test_manifest_columns_become_site_context_and_metadata(wav, tmp_path):

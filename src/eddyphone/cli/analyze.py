@@ -198,6 +198,7 @@ def _patient_views(analyses, out_dir, args) -> None:
     from eddyphone.export import atomic_write_text, check_free
     from eddyphone.findings import summarise_patient
     from eddyphone.pipeline import SCHEMA_VERSION
+    from eddyphone.report.text import patient_line
 
     groups: dict[str, list] = {}
     for a in analyses:
@@ -213,7 +214,8 @@ def _patient_views(analyses, out_dir, args) -> None:
                 "assumptions": list(explanation.assumptions),
                 "cautions": list(group[0].to_dict()["cautions"])}
         atomic_write_text(path, json.dumps(data, indent=2, allow_nan=False) + "\n")
-        line = f"patient {patient}: {len(group)} recordings; summary {path}"
+        print(patient_line(summary))
+        line = f"  summary {path}"
         if not args.no_report:
             from eddyphone.report import write_patient_report
 

@@ -146,17 +146,8 @@ def _patient_reports(done: list, out_dir: Path,
         summary = summarise_patient(group, patient_id=patient)
         paths.append(write_patient_report(summary, group, out_dir)["html"])
         if progress is not None:
-            progress(_patient_line(summary))
+            progress(text.patient_line(summary))
     return paths
-
-
-def _patient_line(summary: Any) -> str:
-    """One line per patient: the main murmur and how it spreads over the sites."""
-    head = f"patient {summary.patient_id}, {len(summary.sites)} recordings: "
-    if not summary.murmurs:
-        return head + f"murmur {summary.presence}"
-    m = summary.murmurs[0]
-    return head + ("possible " if m.possible else "") + f"{m.phase} murmur, {m.spread}"
 
 
 def _write_index(out_dir: Path, source: Path, done: list, patients: list[Path],

@@ -208,6 +208,16 @@ def companion_words(analysis: Any) -> str:
     return f"; also {', '.join(words)}" if words else ""
 
 
+def patient_line(summary: Any) -> str:
+    """One line for a patient (a :class:`~eddyphone.findings.PatientSummary`): the main
+    murmur and how it spreads over the sites."""
+    head = f"patient {summary.patient_id}, {len(summary.sites)} recordings: "
+    if not summary.murmurs:
+        return head + f"murmur {summary.presence}"
+    m = summary.murmurs[0]
+    return head + ("possible " if m.possible else "") + f"{m.phase} murmur, {m.spread}"
+
+
 @dataclass(frozen=True)
 class MechanismBlock:
     """One ranked mechanism in words, ready to render."""
