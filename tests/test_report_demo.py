@@ -86,7 +86,8 @@ def test_demo_writes_the_patient_report_of_the_four_areas(tmp_path):
     report = tmp_path / "out" / f"patient-{DEMO_PATIENT}.report.html"
     assert report.exists() and f"out/{report.name}" in result.stdout
     assert "and 1 patient report(s)" in result.stdout
-    assert f'href="{report.name}"' in (tmp_path / "out" / "index.html").read_text()
+    page = (tmp_path / "out" / "index.html").read_text()
+    assert f'href="{report.name}"' in page and "loudest at the mitral area" in page
 
 
 def test_demo_refuses_an_existing_out_folder(tmp_path):

@@ -10,7 +10,7 @@ run_demo(source, out_dir, *, progress=None) -> DemoResult
 from __future__ import annotations
 
 import csv
-from collections.abc import Callable
+from collections.abc import Callable, Mapping
 from dataclasses import dataclass
 from html import escape
 from pathlib import Path
@@ -130,8 +130,9 @@ def _line(analysis: Any) -> str:
     return f"{analysis.recording.stem}: {rate}, {murmur}{text.companion_words(analysis)}"
 
 
-def _patient_reports(done: list, out_dir: Path,
-                     progress: Callable[[str], None] | None = None) -> list[Path]:
+def _patient_reports(done: list, out_dir: Path, progress: Callable[[str], None] | None = None
+                     ) -> dict[Path, str]:
+    """Write a report for every patient with several recordings: path -> its line."""
     from eddyphone.findings import summarise_patient
     from eddyphone.report import write_patient_report
 
@@ -139,18 +140,19 @@ def _patient_reports(done: list, out_dir: Path,
     for analysis, _, _ in done:
         if analysis.recording.patient:
             groups.setdefault(analysis.recording.patient, []).append(analysis)
-    paths = []
+    reports = {}
     for patient, group in groups.items():
         if len(group) < 2:
             continue
         summary = summarise_patient(group, patient_id=patient)
-        paths.append(write_patient_report(summary, group, out_dir)["html"])
+        line = text.patient_line(summary)
+        reports[write_patient_report(summary, group, out_dir)["html"]] = line
         if progress is not None:
-            progress(text.patient_line(summary))
-    return paths
+            progress(line)
+    return reports
 
 
-def _write_index(out_dir: Path, source: Path, done: list, patients: list[Path],
+def _write_index(out_dir: Path, source: Path, done: list, patients: Mapping[Path, str],
                  failures: list[str]) -> Path:
     from eddyphone._version import __version__
     from eddyphone.export import atomic_write_text
@@ -177,8 +179,8 @@ def _write_index(out_dir: Path, source: Path, done: list, patients: list[Path],
             escape(made or "—")]
         rows.append("<tr>" + "".join(f'<td class="num">{c}</td>' if k == 2 else f"<td>{c}</td>"
                                      for k, c in enumerate(cells)) + "</tr>")
-    patient_links = "".join(f'<li><a href="{escape(p.name)}">{escape(p.name)}</a></li>'
-                            for p in patients)
+    patient_links = "".join(f'<li><a href="{escape(p.name)}">{escape(p.name)}</a>: '
+                            f"{escape(line)}</li>" for p, line in patients.items())
     fail = "".join(f"<li>{escape(f)}</li>" for f in failures)
     body = (
         '<header class="top"><div><p class="kicker">eddyphone demo</p>'
