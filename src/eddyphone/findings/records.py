@@ -365,7 +365,7 @@ def _fields_from(cls: type, d: Mapping[str, Any]) -> dict[str, Any]:
         v = d[f.name]
         if isinstance(v, list):
             v = tuple(v)
-        elif v is None and f.type == "float":
+        elif v is None and f.type in ("float", float):
             v = float("nan")
         out[f.name] = v
     return out
