@@ -186,9 +186,8 @@ def summarise_patient(analyses: Iterable | Mapping, *, patient_id: str | None = 
     sites = tuple(s for s, _ in pairs)
     murmurs: list[PatientMurmur] = []
     for phase in ("systolic", "diastolic", "continuous"):
-        at = {s: f for s, f in pairs}
         found = {s: next((m for m in f.murmurs if m.phase == phase), None)
-                 for s, f in at.items()}
+                 for s, f in pairs}
         heard = {s: m for s, m in found.items() if m is not None}
         if not any(m.presence == "present" for m in heard.values()):
             continue

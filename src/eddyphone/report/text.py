@@ -20,6 +20,7 @@ beat_rows(analysis) -> (header, rows)
 cautions(analysis) -> list of str
 rr_variation_words(rhythm) -> str
 companion_words(analysis) -> str
+patient_line(summary) -> str
 provenance(analysis) -> list of (label, value)
 """
 
