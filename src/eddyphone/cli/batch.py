@@ -13,7 +13,8 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     """Register the options of ``batch``."""
     parser.add_argument("inputs", nargs="+", metavar="INPUT",
                         help="recordings, folders (searched recursively), glob patterns "
-                        "(quoted), or manifest CSV files with a 'path' column")
+                        "(quoted), or manifest CSV files with a 'path' column (a 'patient' column "
+                        "adds patients.parquet, one row per patient)")
     parser.add_argument("--out", required=True, metavar="DIR",
                         help="output folder; running again into it resumes the batch")
     parser.add_argument("--workers", type=int, metavar="N",
