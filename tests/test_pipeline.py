@@ -141,6 +141,20 @@ def test_patient_view_writes_a_patient_summary(tmp_path):
     assert "patient Q7, 2 recordings: systolic murmur, loudest at the " in result.stdout
 
 
+def test_manifest_rows_without_a_patient_are_not_grouped_into_one(wav, tmp_path):
+    # Recordings the manifest gives no patient are separate people, not one patient
+    # "unknown" (as the bundled demo manifest lists ten single recordings).
+    for name in ("a.wav", "b.wav", "c.wav"):
+        (tmp_path / name).write_bytes(wav.read_bytes())
+    manifest = tmp_path / "list.csv"
+    manifest.write_text("path,patient,site\na.wav,K2,aortic\nb.wav,K2,mitral\nc.wav,,mitral\n")
+    out = tmp_path / "out"
+    result = _cli("analyze", "--manifest", str(manifest), "--out", str(out), "--no-report")
+    assert result.returncode == 0, result.stderr
+    assert sorted(p.name for p in out.glob("patient-*")) == ["patient-K2.json"]
+    assert "patient K2, 2 recordings" in result.stdout and "unknown" not in result.stdout
+
+
 def test_manifest_columns_become_site_context_and_metadata(wav, tmp_path):
     manifest = tmp_path / "study.csv"
     manifest.write_text(f"path,patient,site,hematocrit,arm\n{wav.name},K2,aortic,0.3,b\n")

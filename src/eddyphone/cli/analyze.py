@@ -202,7 +202,8 @@ def _patient_views(analyses, out_dir, args) -> None:
 
     groups: dict[str, list] = {}
     for a in analyses:
-        groups.setdefault(a.recording.patient or "unknown", []).append(a)
+        if a.recording.patient:  # manifest rows without a patient stay single recordings
+            groups.setdefault(a.recording.patient, []).append(a)
     for patient, group in groups.items():
         summary = summarise_patient(group, patient_id=patient)
         explanation = explain_patient(group, context=group[0].context)
