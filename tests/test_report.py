@@ -339,3 +339,16 @@ def test_one_line_summary_names_the_companion_sounds():
     fixed = replace(snap, kind="split_S2", details={"varies": False})
     both = replace(rumble, findings=replace(rumble.findings, extra_sounds=(hedged, fixed)))
     assert companion_words(both) == "; also ejection click (possible), fixed split S2"
+
+
+def test_context_words_name_every_given_fact_with_its_unit():
+    # The provenance list and the demo index say what the user gave, in words (our
+    # wording; units as in the output contract's field names).
+    from eddyphone.context import PatientContext
+    from eddyphone.report.text import context_words
+
+    given = PatientContext(hematocrit=0.19, age_years=41, cardiac_output_l_min=7.5,
+                           states=("exercise", "arteriovenous_fistula"))
+    assert context_words(given) == ("hematocrit 0.19, cardiac output 7.5 L/min, age 41, "
+                                    "exercise, arteriovenous fistula")
+    assert context_words(PatientContext()) == "" and context_words(None) == ""

@@ -90,6 +90,41 @@ def test_demo_writes_the_patient_report_of_the_four_areas(tmp_path):
     assert f'href="{report.name}"' in page and "loudest at the mitral area" in page
 
 
+def test_demo_passes_the_chart_of_the_manifest(tmp_path):
+    # The bundled manifest.csv holds what the clinic's chart says. The anemic patient's
+    # blood count (hematocrit 0.19) reaches the explanation, which then ranks thin blood
+    # first: the simulator made this murmur with cause low_viscosity at hematocrit 0.19
+    # (simulate.cases.demo_specs). Without the manifest the same sound ranks the other
+    # flow cause first (anemia raises cardiac output too; the sound alone cannot tell).
+    import json
+
+    from eddyphone.report.demo import run_demo
+
+    name = "04_severe_anemia.wav"
+    top = {}
+    for with_chart in (True, False):
+        folder = tmp_path / f"recordings-{with_chart}"
+        folder.mkdir()
+        shutil.copy(SAMPLE_AUDIO / name, folder / name)
+        if with_chart:
+            lines = (SAMPLE_AUDIO / "manifest.csv").read_text().splitlines()
+            keep = [lines[0]] + [ln for ln in lines[1:] if ln.startswith(name)]
+            assert len(keep) == 2
+            (folder / "manifest.csv").write_text("\n".join(keep) + "\n")
+        out = tmp_path / f"out-{with_chart}"
+        result = run_demo(folder, out)
+        assert not result.failures and len(result.reports) == 1
+        doc = json.loads((out / "04_severe_anemia.json").read_text())
+        top[with_chart] = doc["mechanisms"][0]["name"]
+        page = (out / "index.html").read_text()
+        if with_chart:
+            assert doc["context"] == {"hematocrit": 0.19, "age_years": 41.0}
+            assert "hematocrit 0.19, age 41" in page
+        else:
+            assert doc["context"] == {} and "hematocrit 0.19" not in page
+    assert top == {True: "low_viscosity", False: "high_flow"}
+
+
 def test_demo_refuses_an_existing_out_folder(tmp_path):
     (tmp_path / "taken").mkdir()
     result = _demo(tmp_path, "--out", "taken")

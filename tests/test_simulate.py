@@ -429,6 +429,10 @@ def test_sample_audio_is_the_demo_set(tmp_path):
         assert np.max(np.abs(a.astype(int) - b.astype(int))) <= 2
     assert len(list(sample.glob("*.wav"))) == len(demo_specs())
     assert "synthetic" in (sample / "README.md").read_text().lower()
+    bundled = (sample / "manifest.csv").read_text().splitlines()
+    made = (tmp_path / "manifest.csv").read_text().splitlines()
+    assert made[0] == bundled[0] and set(made[1:]) <= set(bundled[1:])
+    assert len(bundled) == len(demo_specs()) + 1
 
 
 def test_lung_sounds_follow_the_breath():

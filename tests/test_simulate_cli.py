@@ -16,7 +16,8 @@ def test_demo_cases_written(tmp_path, capsys):
                  "07_fast_irregular"]) == 0
     names = sorted(p.name for p in out.iterdir())
     assert "01_resting_adult.wav" in names and "07_fast_irregular.truth.json" in names
-    assert "index.csv" in names and "README.md" in names and len(names) == 8
+    assert "index.csv" in names and "README.md" in names and "manifest.csv" in names
+    assert len(names) == 9
     assert "wrote 2 recording(s)" in capsys.readouterr().out
 
 

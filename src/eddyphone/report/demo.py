@@ -77,6 +77,21 @@ def _index_rows(source: Path) -> dict[str, dict[str, str]]:
         return {row.get("file", ""): row for row in csv.DictReader(fh)}
 
 
+def _chart(source: Path) -> dict[str, tuple[dict, dict]]:
+    """Per file name: load options (site, patient, posture) and patient context from
+    ``manifest.csv`` beside the recordings, if there is one."""
+    from eddyphone.io.manifest import read_manifest, split_row
+
+    manifest = source / "manifest.csv"
+    if not manifest.exists():
+        return {}
+    chart = {}
+    for row in read_manifest(manifest):
+        file, options, context, _ = split_row(row, str(manifest))
+        chart[Path(file).name] = (options, context)
+    return chart
+
+
 def run_demo(source: str | Path, out_dir: str | Path, *,
              progress: Callable[[str], None] | None = None) -> DemoResult:
     """Analyse every recording in ``source`` into ``out_dir`` (JSON, CSV, reports, figures,
@@ -86,7 +101,9 @@ def run_demo(source: str | Path, out_dir: str | Path, *,
     Parameters
     ----------
     source : path
-        Folder of recordings (``index.csv`` beside them is used for sites and truth).
+        Folder of recordings. ``manifest.csv`` beside them gives each one's site,
+        patient and chart context; ``index.csv`` how the case was made (and the site and
+        patient when there is no manifest).
     out_dir : path
         Folder for the outputs (created if missing; existing outputs are never replaced).
     progress : callable, optional
@@ -100,15 +117,18 @@ def run_demo(source: str | Path, out_dir: str | Path, *,
     source, out_dir = Path(source), Path(out_dir)
     out_dir.mkdir(parents=True, exist_ok=True)
     meta = _index_rows(source)
+    chart = _chart(source)
     files = sorted(p for p in source.iterdir()
                    if p.suffix.lower() in AUDIO_SUFFIXES and not p.name.startswith("."))
     done: list[tuple[Any, dict[str, str], Path]] = []
     failures: list[str] = []
     for path in files:
         row = meta.get(path.name, {})
+        options, context = chart.get(path.name, (
+            {"site": row.get("site") or None, "patient": row.get("patient") or None}, {}))
         try:
-            rec = load(path, site=row.get("site") or None, patient=row.get("patient") or None)
-            analysis = analyze(rec)
+            rec = load(path, **options)
+            analysis = analyze(rec, context or None)
             written = write_analysis(analysis, out_dir)
         except EddyphoneError as exc:
             failures.append(str(exc))
@@ -171,10 +191,12 @@ def _write_index(out_dir: Path, source: Path, done: list, patients: Mapping[Path
         rate = f"{hr:.0f}" if text.finite_positive(hr) else "—"
         found = s.get("murmur_description") or f"murmur {s.get('murmur', 'uncertain')}"
         found += text.companion_words(analysis)
+        chart = text.context_words(analysis.context)
         cells = [
             f'<a href="{escape(html.name)}">{escape(analysis.recording.stem)}</a> · '
             f'<a href="{escape(pdf.name)}">PDF</a>',
-            escape(analysis.recording.site or "—"),
+            escape(analysis.recording.site or "—")
+            + (f'<br><span class="muted">{escape(chart)}</span>' if chart else ""),
             rate, escape(found), escape(top.label if top is not None else "—"),
             escape(made or "—")]
         rows.append("<tr>" + "".join(f'<td class="num">{c}</td>' if k == 2 else f"<td>{c}</td>"
@@ -191,7 +213,7 @@ def _write_index(out_dir: Path, source: Path, done: list, patients: Mapping[Path
         f"<p>Recordings from <code>{escape(str(source))}</code>; eddyphone "
         f"{escape(__version__)}. Each report embeds its sound, figures and teaching renders."
         "</p>"
-        "<table><thead><tr><th>report</th><th>site</th><th class=\"num\">rate (bpm)</th>"
+        "<table><thead><tr><th>report</th><th>site; chart</th><th class=\"num\">rate (bpm)</th>"
         "<th>murmur and companion sounds found</th><th>most likely mechanism</th>"
         "<th>how the case was made</th>"
         f"</tr></thead><tbody>{''.join(rows)}</tbody></table>"

@@ -63,6 +63,7 @@ header.top .kicker {{ font-size:12px; text-transform:uppercase; letter-spacing:0
 .states {{ display:flex; height:8px; width:180px; border-radius:2px; overflow:hidden; }}
 .states span {{ flex:1; }}
 .notice {{ font-size: 13px; color: var(--muted); margin: 6px 0 22px; }}
+.muted {{ color: var(--muted); }}
 section {{ margin: 30px 0; }}
 h2 {{ font-size: 17px; margin: 0 0 10px; padding-bottom:4px; border-bottom:1px solid var(--grid);
   display:flex; gap:10px; align-items:baseline; }}

@@ -21,6 +21,7 @@ cautions(analysis) -> list of str
 rr_variation_words(rhythm) -> str
 companion_words(analysis) -> str
 patient_line(summary) -> str
+context_words(context) -> str
 provenance(analysis) -> list of (label, value)
 """
 
@@ -406,6 +407,29 @@ def cautions(analysis: Any) -> list[str]:
     return out
 
 
+#: Context fields in words: label and unit.
+_CONTEXT_WORDS = {"age_years": ("age", ""), "hematocrit": ("hematocrit", ""),
+                  "heart_rate_bpm": ("heart rate", "/min"),
+                  "cardiac_output_l_min": ("cardiac output", " L/min"),
+                  "stroke_volume_ml": ("stroke volume", " mL"),
+                  "diameter_mm": ("diameter", " mm"), "site": ("site", "")}
+
+
+def context_words(context: Any) -> str:
+    """The patient context given, in words ('age 41, hematocrit 0.19, exercise'); ''
+    when none was given."""
+    given = context.to_dict() if context is not None else {}
+    words = []
+    for key, value in given.items():
+        if key == "states":
+            words += [state.replace("_", " ") for state in value]
+        else:
+            label, unit = _CONTEXT_WORDS.get(key, (quantity_name(key), ""))
+            words.append(f"{label} {value:g}{unit}" if isinstance(value, float)
+                         else f"{label} {value}{unit}")
+    return ", ".join(words)
+
+
 def provenance(analysis: Any) -> list[tuple[str, str]]:
     """Where the report came from: file, version, configuration digest, time."""
     rec = analysis.recording
@@ -417,11 +441,8 @@ def provenance(analysis: Any) -> list[tuple[str, str]]:
                          ("Patient", rec.patient)):
         if value:
             info.append((label, str(value)))
-    if analysis.context is not None and analysis.context.to_dict():
-        info.append(("Patient context", ", ".join(f"{k} = {v}" for k, v in
-                                                  analysis.context.to_dict().items())))
-    else:
-        info.append(("Patient context", "none given (the explanations state their defaults)"))
+    info.append(("Patient context", context_words(analysis.context)
+                 or "none given (the explanations state their defaults)"))
     info += [("eddyphone version", __version__),
              ("Configuration digest", analysis.config.digest()),
              ("Report written", datetime.now(timezone.utc).strftime("%Y-%m-%d %H:%M UTC"))]

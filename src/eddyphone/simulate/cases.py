@@ -32,6 +32,20 @@ DEMO_SCENARIO = ("Afternoon list of the Quillan Row Community Clinic, a fictiona
 DEMO_PATIENT = "QR-11"
 DEMO_PATIENT_PREFIX = "11_four_areas_"
 
+#: What the clinic's chart says about each demo patient (invented): the patient
+#: context a clinician would pass with the sound, written to the demo's
+#: ``manifest.csv`` (columns of :mod:`eddyphone.io.manifest`). The anemic patient's
+#: blood count is on file; the runner came straight from a training run.
+DEMO_CHART: dict[str, dict[str, object]] = {
+    "02_runner_after_exercise": {"age_years": 23, "states": ("exercise",)},
+    "03_older_adult_outflow": {"age_years": 78},
+    "04_severe_anemia": {"age_years": 41, "hematocrit": 0.19},
+    "10_continuous_shunt": {"age_years": 19},
+    **{f"{DEMO_PATIENT_PREFIX}{site}": {"age_years": 66} for site in SITES},
+}
+#: Columns of the demo's ``manifest.csv``.
+DEMO_MANIFEST_FIELDS = ("path", "patient", "site", "age_years", "hematocrit", "states")
+
 
 def _d_from_area_cm2(area_cm2: float) -> float:
     return float(np.sqrt(4 * area_cm2 * 1e-4 / np.pi))
@@ -392,6 +406,10 @@ def demo_readme(index_rows: list[dict], specs: dict[str, CaseSpec]) -> str:
         "diameter, velocity, hematocrit, viscosity, Reynolds number and regime, Bernoulli "
         "gradient, Strouhal break frequency), noise levels and the device response.",
         "- `index.csv`: one row per recording with the main fields.",
+        "- `manifest.csv`: the clinic's list as eddyphone reads it (`eddyphone analyze "
+        "--manifest`, `eddyphone batch`, `eddyphone demo`): each recording's site, patient "
+        "and what the chart says (age, hematocrit from a blood count, a state such as "
+        "exercise), nothing of the simulator's truth.",
         "",
         "Murmur grades follow our own loudness convention (murmur peak RMS relative to S1 "
         "RMS; edges -20/-13/-6/0/+6 dB), not a clinical examination: grades IV and above "
@@ -405,10 +423,22 @@ def demo_readme(index_rows: list[dict], specs: dict[str, CaseSpec]) -> str:
     return "\n".join(lines)
 
 
+def demo_manifest_rows(index_rows: list[dict]) -> list[dict[str, object]]:
+    """The demo's manifest: each recording with its site, patient and chart context."""
+    rows = []
+    for r in index_rows:
+        chart = DEMO_CHART.get(r["id"], {})
+        rows.append({"path": r["file"], "patient": r.get("patient", ""), "site": r["site"],
+                     "age_years": chart.get("age_years", ""),
+                     "hematocrit": chart.get("hematocrit", ""),
+                     "states": ";".join(chart.get("states", ()))})  # type: ignore[arg-type]
+    return rows
+
+
 def write_demo(out_dir: str | Path, names: list[str] | None = None, *, seed: int | None = None,
                overwrite: bool = False) -> Path:
-    """Generate the demo cases (all, or ``names``) into ``out_dir`` with ``index.csv``
-    and ``README.md``.
+    """Generate the demo cases (all, or ``names``) into ``out_dir`` with ``index.csv``,
+    ``manifest.csv`` (site, patient and chart context per recording) and ``README.md``.
 
     ``seed`` replaces every case's own seed when given.
     """
@@ -422,12 +452,17 @@ def write_demo(out_dir: str | Path, names: list[str] | None = None, *, seed: int
                          f"choose from {', '.join(all_specs)}")
     specs = {nm: (all_specs[nm] if seed is None else all_specs[nm].with_(seed=seed))
              for nm in names}
-    readme = Path(out_dir) / "README.md"
-    if readme.exists() and not overwrite:
-        raise InputError(str(readme), "already exists and would be overwritten",
-                         "choose another --out folder or pass --overwrite")
+    readme, manifest = Path(out_dir) / "README.md", Path(out_dir) / "manifest.csv"
+    for path in (readme, manifest):
+        if path.exists() and not overwrite:
+            raise InputError(str(path), "already exists and would be overwritten",
+                             "choose another --out folder or pass --overwrite")
     index = _write_set(specs, out_dir, overwrite=overwrite)
     with open(index) as fh:
         rows = [r for r in csv.DictReader(fh) if r["id"] in all_specs]
     readme.write_text(demo_readme(rows, {r["id"]: all_specs[r["id"]] for r in rows}))
+    with open(manifest, "w", newline="") as fh:
+        w = csv.DictWriter(fh, fieldnames=DEMO_MANIFEST_FIELDS, lineterminator="\n")
+        w.writeheader()
+        w.writerows(demo_manifest_rows(rows))
     return index
