@@ -24,7 +24,12 @@ from eddyphone.findings.config import PITCH_BOUNDARIES_HZ, TIMING_THIRDS, pitch_
 from eddyphone.findings.grade import MAX_AUDIO_GRADE, grade_range
 from eddyphone.findings.measures import beat_windows, spectrogram
 from eddyphone.findings.murmur import noise_relative_centroid_hz
-from eddyphone.findings.words import quality_words, shape_word, timing_word
+from eddyphone.findings.words import (
+    continuous_words,
+    quality_words,
+    shape_word,
+    timing_word,
+)
 from eddyphone.segment.beats import Segment, beats_from_segments
 from eddyphone.simulate import CaseSpec, MurmurSpec, generate
 
@@ -138,6 +143,11 @@ def test_quality_words_follow_the_trade():
                          timing="early", centroid_hz=230.0, **common) == ("blowing",)
     assert quality_words(pitch="low", tonality=0.1, roughness=0.1, phase="diastolic",
                          timing="holo", centroid_hz=230.0, **common) == ("rumbling",)
+    # common practice: a continuous murmur through S2 is the "machinery" murmur,
+    # whatever its pitch or roughness; a tonal one stays musical
+    for words in (("blowing",), ("harsh",), ("rumbling",)):
+        assert continuous_words(words) == ("machinery",)
+    assert continuous_words(("musical",)) == ("musical",)
 
 
 def test_shape_words():

@@ -17,7 +17,7 @@ from eddyphone.errors import InputError, ParameterError
 _PHASES = ("systolic", "diastolic", "continuous")
 _TIMINGS = ("early", "mid", "late", "holo")
 _SHAPES = ("crescendo", "decrescendo", "crescendo-decrescendo", "plateau")
-_WORDS = ("harsh", "blowing", "rumbling", "musical")
+_WORDS = ("harsh", "blowing", "rumbling", "musical", "machinery")
 
 
 def findings_from_list(items: Sequence[Mapping[str, object]], *, presence: str | None = None,
@@ -76,7 +76,7 @@ def described_murmur(*, phase: str, timing: str, shape: str, dominant_frequency_
         Grade range on I-VI; values above III are refused (a recording cannot show a
         thrill).
     quality_words : iterable of str
-        From harsh, blowing, rumbling, musical.
+        From harsh, blowing, rumbling, musical, machinery.
     peak_fraction : float, optional
         Position of the peak in its window, 0-1 (defaults by shape).
     extra_sounds : iterable of str

@@ -58,7 +58,7 @@ from eddyphone.findings.config import (
 from eddyphone.findings.grade import grade_range
 from eddyphone.findings.measures import DIA, SYS, Profiles, Spectrogram
 from eddyphone.findings.records import GRADE_NOTE, Murmur
-from eddyphone.findings.words import quality_words, shape_word, timing_word
+from eddyphone.findings.words import continuous_words, quality_words, shape_word, timing_word
 
 PHASES = ("systolic", "diastolic")
 
@@ -942,7 +942,7 @@ def _spill_continuous(s: Murmur, prof: tuple[float, ...]) -> Murmur:
 
     shape, peak = _shape_of_cycle(prof)
     return replace(s, phase="continuous", timing="holo", shape=shape, peak_fraction=peak,
-                   profile=prof)
+                   profile=prof, quality_words=continuous_words(s.quality_words))
 
 
 def _merge_continuous(s: Murmur, d: Murmur) -> Murmur:
@@ -956,6 +956,7 @@ def _merge_continuous(s: Murmur, d: Murmur) -> Murmur:
     shape = "crescendo-decrescendo" if 0.2 < peak < 0.8 else ("crescendo" if peak >= 0.8
                                                               else "decrescendo")
     return replace(loud, phase="continuous", timing="holo", shape=shape, peak_fraction=peak,
-                   profile=prof, consistency=min(s.consistency, d.consistency),
+                   profile=prof, quality_words=continuous_words(loud.quality_words),
+                   consistency=min(s.consistency, d.consistency),
                    beats_with_murmur=min(s.beats_with_murmur, d.beats_with_murmur),
                    confidence=min(s.confidence, d.confidence))

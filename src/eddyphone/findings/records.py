@@ -58,7 +58,7 @@ class Murmur:
     dominant_frequency_hz, centroid_hz : float
         Peak and centroid of the murmur's excess spectrum (above the noise floor).
     quality_words : tuple of str
-        From harsh, blowing, rumbling, musical.
+        From harsh, blowing, rumbling, musical, machinery.
     consistency : float
         Fraction of usable beats that show it.
     grade_range : (int, int)
@@ -153,7 +153,8 @@ class Murmur:
             when = f"holo{self.phase}" if self.phase != "continuous" else "continuous"
         else:
             when = f"{self.timing}-{self.phase}" if self.phase != "continuous" else "continuous"
-        words = " ".join(self.quality_words)
+        words = " ".join("machinery-like" if w == "machinery" else w
+                         for w in self.quality_words)
         accent = " with presystolic accentuation" if self.presystolic_accent else ""
         text = (f"grade {self.grade_text}/VI {words + ' ' if words else ''}{when} "
                 f"{self.shape} murmur{accent}, {self.pitch_text}, "

@@ -96,6 +96,13 @@ def _peak_position(p_db: np.ndarray, x: np.ndarray, k: int) -> float:
     return float(x[k])
 
 
+def continuous_words(words: tuple[str, ...]) -> tuple[str, ...]:
+    """The words of a murmur found to run through S2: ``machinery``, the trade's word
+    for the continuous murmur of an open arterial duct (common practice), unless it is
+    ``musical``."""
+    return words if "musical" in words else ("machinery",)
+
+
 def quality_words(*, pitch: str, tonality: float, relative_spread: float, roughness: float,
                   tonal_threshold: float, dominant_hz: float = float("inf"),
                   phase: str = "diastolic", centroid_hz: float = float("inf"),
