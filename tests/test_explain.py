@@ -444,3 +444,33 @@ def test_diastolic_rumble_reads_as_inflow_and_blowing_decrescendo_as_leak():
     low_recorded = murmur(phase="diastolic", timing="early", shape="decrescendo",
                           pitch="low", quality_words=("blowing",), dominant_frequency_hz=110.0)
     assert murmur_pattern(low_recorded) == "inflow"
+
+
+def test_patient_view_halves_a_murmur_only_possible_for_the_patient():
+    # A diastolic murmur called present at one site only, in 70 % of its beats, is only
+    # possible for the patient (findings.patient.ONE_RECORDING_CONSISTENCY, our own rule
+    # from bench/bench_patient.py); beside a systolic flow murmur present at two sites it
+    # counts half, and a caution says why. Same murmurs, the diastolic one firm: full
+    # weight (the combination is the weighted mean of the per-finding scores).
+    from dataclasses import replace
+
+    flow = flow_murmur(level_db_re_heart_sounds=-12.0)
+    leak = murmur(id="m2", phase="diastolic", timing="early", shape="decrescendo",
+                  dominant_frequency_hz=300.0, level_db_re_heart_sounds=-12.0,
+                  consistency=0.7)
+    group = [analysis("base", "pulmonic", findings(flow)),
+             analysis("left", "tricuspid", findings(flow, leak))]
+    shaky = explain_patient(group)
+    assert any("diastolic murmur was called present in only one of the 2 recordings "
+               "(tricuspid)" in c for c in shaky.cautions)
+    firm_leak = replace(leak, consistency=0.9)
+    firm = explain_patient([group[0], analysis("left", "tricuspid", findings(flow, firm_leak))])
+    assert not any("only possible" in c for c in firm.cautions)
+    orifice = {name: next(m.score for m in e.overall if m.name == "narrowed_orifice")
+               for name, e in (("shaky", shaky), ("firm", firm))}
+    assert orifice["shaky"] < orifice["firm"]
+    # the weights behind it: 1, 1 and 0.5 times confidence and loudness (equal here)
+    s = {key: scores(shaky, key)["narrowed_orifice"] for key in ("base:m1", "left:m1",
+                                                                  "left:m2")}
+    assert orifice["shaky"] == pytest.approx(
+        (s["base:m1"] + s["left:m1"] + 0.5 * s["left:m2"]) / 2.5, rel=1e-6)

@@ -125,7 +125,8 @@ def test_patient_view_writes_a_patient_summary(tmp_path):
 
     folder = tmp_path / "p"
     folder.mkdir()
-    for name, site in (("03_older_adult_outflow", "aortic"), ("05_systolic_leak", "mitral")):
+    for name, site in (("03_older_adult_outflow", "aortic"), ("05_systolic_leak", "mitral"),
+                       ("01_resting_adult", "tricuspid")):
         (folder / f"{name}.wav").write_bytes((SAMPLE_AUDIO / f"{name}.wav").read_bytes())
         (folder / f"{name}.meta.json").write_text(json.dumps({"site": site}))
     out = tmp_path / "out"
@@ -133,12 +134,17 @@ def test_patient_view_writes_a_patient_summary(tmp_path):
     assert result.returncode == 0, result.stderr
     data = json.loads((out / "patient-Q7.json").read_text())
     assert data["patient"]["patient_id"] == "Q7"
-    assert sorted(data["patient"]["sites"]) == ["aortic", "mitral"]
+    assert sorted(data["patient"]["sites"]) == ["aortic", "mitral", "tricuspid"]
     assert data["mechanisms"] and any("not a diagnosis" in c for c in data["cautions"])
+    # the patient view's own cautions travel too (the simulator made no murmur in the
+    # resting adult's recording), the general ones once
+    assert len(set(data["cautions"])) == len(data["cautions"])
+    assert any(c.startswith("No murmur at 01_resting_adult (tricuspid)")
+               for c in data["cautions"])
     assert not (out / "patient-Q7.report.html").exists()  # --no-report is honoured
     # one line for the patient: both simulated murmurs are systolic (narrowed outflow
     # at the aortic area, leaking inflow valve at the mitral area)
-    assert "patient Q7, 2 recordings: systolic murmur, loudest at the " in result.stdout
+    assert "patient Q7, 3 recordings: systolic murmur, loudest at the " in result.stdout
 
 
 def test_manifest_rows_without_a_patient_are_not_grouped_into_one(wav, tmp_path):

@@ -213,7 +213,8 @@ def _patient_views(analyses, out_dir, args) -> None:
                 "recordings": [a.recording.source for a in group],
                 "mechanisms": explanation.to_list(),
                 "assumptions": list(explanation.assumptions),
-                "cautions": list(group[0].to_dict()["cautions"])}
+                "cautions": list(dict.fromkeys([*group[0].to_dict()["cautions"],
+                                                *explanation.cautions]))}
         atomic_write_text(path, json.dumps(data, indent=2, allow_nan=False) + "\n")
         print(patient_line(summary))
         line = f"  summary {path}"

@@ -347,7 +347,9 @@ def explain_patient(analyses: Sequence[object], *, context: object | None = None
 
     Each recording is explained again with the shared ``context`` (its own site kept);
     the overall ranking weights every murmur by its confidence and by its loudness
-    (a murmur is loudest nearest its source), so the loudest site counts most.
+    (a murmur is loudest nearest its source), so the loudest site counts most. A murmur
+    not called present, or only possible for the patient (called present in one of
+    several recordings only, :func:`eddyphone.findings.summarise_patient`), counts half.
 
     Parameters
     ----------
@@ -362,7 +364,12 @@ def explain_patient(analyses: Sequence[object], *, context: object | None = None
     Explanation
         ``per_finding`` keys are ``'<recording stem>:<finding id>'``.
     """
+    from eddyphone.findings import summarise_patient
+    from eddyphone.findings.patient import ONE_RECORDING_CONSISTENCY
+
     config = config or ExplainConfig()
+    possible = ({m.phase: m for m in summarise_patient(analyses).murmurs if m.possible}
+                if analyses else {})
     per_finding: dict[str, tuple[Mechanism, ...]] = {}
     subjects: dict[str, str] = {}
     weights: dict[str, float] = {}
@@ -389,10 +396,15 @@ def explain_patient(analyses: Sequence[object], *, context: object | None = None
             where = f" at the {site} site" if site else ""
             subjects[key] = e.subjects[m.id] + where
             loud = 10 ** (float(getattr(m, "level_db_re_heart_sounds", 0.0) or 0.0) / 20.0)
-            weights[key] = float(m.confidence) * (1.0 if m.presence == "present" else 0.5) \
-                * min(loud, 10.0)
+            firm = m.presence == "present" and m.phase not in possible
+            weights[key] = float(m.confidence) * (1.0 if firm else 0.5) * min(loud, 10.0)
     if per_finding:
         overall = _combine(per_finding, weights)
+        for phase, m in possible.items():
+            cautions.append(f"The {phase} murmur was called present in only one of the "
+                            f"{len(analyses)} recordings ({', '.join(m.present_at)}), in "
+                            f"under {ONE_RECORDING_CONSISTENCY:.0%} of its beats there, so it "
+                            "is only possible for the patient and its mechanisms count half.")
         if absent:
             cautions.append("No murmur at " + ", ".join(absent) + ": a murmur confined to "
                             "some sites points to a local source rather than a general flow "
