@@ -434,8 +434,8 @@ def test_unreachable_scheduler_is_an_input_error(study, tmp_path):
 
 
 def test_patients_named_by_the_manifest_get_a_patient_table(tmp_path):
-    # The bundled patient examined at the four areas, plus a recording without a
-    # patient. The simulator made the leaking inflow valve's murmur loudest at the
+    # The bundled patient examined at the four areas (the mitral area in two postures),
+    # plus a recording without a patient. The simulator made the leaking inflow valve's murmur loudest at the
     # mitral area (simulate.generator.MURMUR_SITE_DB, common practice); the table row
     # must agree with summarise_patient run directly on the same files (the patient
     # view of `eddyphone analyze`), and a run without patients writes no table.
@@ -447,18 +447,31 @@ def test_patients_named_by_the_manifest_get_a_patient_table(tmp_path):
     from eddyphone.simulate.cases import DEMO_PATIENT, DEMO_PATIENT_PREFIX
 
     wavs = sorted(SAMPLE_AUDIO.glob(f"{DEMO_PATIENT_PREFIX}*.wav"))
-    manifest = tmp_path / "manifest.csv"
     sites = [w.stem.removeprefix(DEMO_PATIENT_PREFIX) for w in wavs]
-    manifest.write_text("path,patient,site\n" + "".join(
-        f"{w},{DEMO_PATIENT},{s}\n" for w, s in zip(wavs, sites))
-        + f"{SAMPLE_AUDIO / '01_resting_adult.wav'},,mitral\n")
+    # the mitral area twice, told apart by posture (the second is a copy of the sound;
+    # a batch keeps a file met twice once)
+    lateral = tmp_path / "mitral_left_lateral.wav"
+    lateral.write_bytes(next(w for w, s in zip(wavs, sites) if s == "mitral").read_bytes())
+    wavs.append(lateral)
+    sites.append("mitral")
+    postures = ["left lateral" if k == len(wavs) - 1 else "supine" for k in range(len(wavs))]
+    manifest = tmp_path / "manifest.csv"
+    manifest.write_text("path,patient,site,posture\n" + "".join(
+        f"{w},{DEMO_PATIENT},{s},{p}\n" for w, s, p in zip(wavs, sites, postures))
+        + f"{SAMPLE_AUDIO / '01_resting_adult.wav'},,mitral,\n")
     table = run_batch([manifest], tmp_path / "out", workers=2, progress=False)
     patients = pd.read_parquet(table.attrs["paths"]["patients"])
     assert len(patients) == 1
     row = patients.iloc[0]
-    assert (row["patient"], row["recordings"], row["presence"]) == (DEMO_PATIENT, 4, "present")
-    assert row["main_phase"] == "systolic" and row["main_loudest_site"] == "mitral"
-    direct = summarise_patient([analyze(load(w, site=s)) for w, s in zip(wavs, sites)],
+    assert (row["patient"], row["recordings"], row["presence"]) == (DEMO_PATIENT, 5, "present")
+    assert row["main_phase"] == "systolic"
+    assert row["main_loudest_site"] in ("mitral, supine", "mitral, left lateral")
+    assert "mitral, left lateral" in row["sites"].split("; ")
+    levels = dict(part.rsplit(" ", 1) for part in row["main_level_db_re_s1_by_site"].split("; "))
+    assert levels["mitral, supine"] == levels["mitral, left lateral"]  # the same sound
+    assert "the mitral area, left lateral" in row["summary"]
+    direct = summarise_patient([analyze(load(w, site=s, posture=p))
+                                for w, s, p in zip(wavs, sites, postures)],
                                patient_id=DEMO_PATIENT)
     assert row["summary"] == direct.summary
     solo = run_batch([SAMPLE_AUDIO / "01_resting_adult.wav"], tmp_path / "solo", workers=1,

@@ -204,7 +204,7 @@ def _patient_table(items: Sequence[BatchItem], keys: Sequence[str | None],
     from eddyphone.findings import summarise_patient
     from eddyphone.findings.records import Findings
 
-    groups: dict[str, list[tuple[str, Findings]]] = {}
+    groups: dict[str, list[tuple[str, str | None, Findings]]] = {}
     paths: dict[str, list[str]] = {}
     for item, key in zip(items, keys):
         record = records.get(key) if key is not None else None
@@ -214,7 +214,8 @@ def _patient_table(items: Sequence[BatchItem], keys: Sequence[str | None],
         f = record["findings"]
         site = record["features"].get("site") or Path(item.path).stem
         groups.setdefault(patient, []).append(
-            (site, Findings.from_json(f["list"], f["presence"], f["reason"])))
+            (site, record["features"].get("posture"),
+             Findings.from_json(f["list"], f["presence"], f["reason"])))
         paths.setdefault(patient, []).append(item.path)
     if not groups:
         return None
@@ -232,6 +233,9 @@ def _patient_table(items: Sequence[BatchItem], keys: Sequence[str | None],
             "main_present_at": "; ".join(main.present_at) if main else None,
             "main_description": main.description if main else None,
             "main_spread": main.spread if main else None,
+            "main_level_db_re_s1_by_site": "; ".join(
+                f"{site} {level:.1f}" for site, level in main.level_db_by_site.items())
+            if main else None,
             "extra_sounds": "; ".join(p.extra_sounds), "summary": p.summary,
             "paths": "; ".join(paths[patient])})
     return harmonise(pd.DataFrame(rows))

@@ -16,6 +16,7 @@ PatientSummary, PatientMurmur
 
 from __future__ import annotations
 
+from collections import Counter
 from collections.abc import Iterable, Mapping
 from dataclasses import dataclass, field
 from typing import Any
@@ -125,43 +126,55 @@ class PatientSummary:
                 "per_site": dict(self.per_site)}
 
 
-def _site_of(item: Any, i: int) -> str:
+def _site_of(item: Any, i: int) -> tuple[str, str | None]:
+    """An analysis's site (from the context or the recording) and posture."""
+    posture = getattr(getattr(item, "recording", None), "posture", None)
     for obj in (getattr(item, "context", None), getattr(item, "recording", None)):
         site = getattr(obj, "site", None)
         if site:
-            return str(site)
-    return f"recording {i + 1}"
+            return str(site), posture
+    return f"recording {i + 1}", posture
 
 
 def _pairs(analyses: Any) -> list[tuple[str, Findings]]:
+    """(label, findings) per recording. A site recorded more than once is told apart by
+    posture where given ('mitral, left lateral'), else by number ('mitral (2)')."""
     if isinstance(analyses, Mapping):
-        items = list(analyses.items())
+        items = [(str(k), None, v) for k, v in analyses.items()]
     else:
         items = []
         for i, a in enumerate(analyses):
-            if isinstance(a, tuple) and len(a) == 2:
-                items.append((str(a[0]), a[1]))
+            if isinstance(a, tuple) and len(a) in (2, 3):
+                items.append((str(a[0]), a[1] if len(a) == 3 else None, a[-1]))
             elif hasattr(a, "findings"):
-                items.append((_site_of(a, i), a.findings))
+                items.append((*_site_of(a, i), a.findings))
             else:
                 raise InputError(None, f"item {i} of the patient's recordings is a "
                                  f"{type(a).__name__}",
-                                 "pass Analysis objects, (site, Findings) pairs or a "
-                                 "{site: Findings} mapping")
-    out = []
-    seen: dict[str, int] = {}
-    for site, f in items:
-        if f is None:
-            continue
-        n = seen.get(site, 0)
-        seen[site] = n + 1
-        out.append((site if n == 0 else f"{site} ({n + 1})", f))
+                                 "pass Analysis objects, (site, Findings) pairs, (site, "
+                                 "posture, Findings) triples or a {site: Findings} mapping")
+    items = [(site, posture, f) for site, posture, f in items if f is not None]
+    repeated = Counter(site for site, _, _ in items)
+    out: list[tuple[str, Findings]] = []
+    used: set[str] = set()
+    for site, posture, f in items:
+        base = f"{site}, {posture}" if repeated[site] > 1 and posture else site
+        label, n = base, 1
+        while label in used:
+            n += 1
+            label = f"{base} ({n})"
+        used.add(label)
+        out.append((label, f))
     return out
 
 
 def _area(site: str) -> str:
-    known = ("aortic", "pulmonic", "tricuspid", "mitral")
-    return f"the {site} area" if site in known else site
+    """'mitral' -> 'the mitral area'; 'mitral, sitting' -> 'the mitral area, sitting'."""
+    for known in ("aortic", "pulmonic", "tricuspid", "mitral"):
+        rest = site[len(known):]
+        if site.startswith(known) and (not rest or rest[0] in ", ("):
+            return f"the {known} area{rest}"
+    return site
 
 
 def summarise_patient(analyses: Iterable | Mapping, *, patient_id: str | None = None
@@ -172,7 +185,8 @@ def summarise_patient(analyses: Iterable | Mapping, *, patient_id: str | None = 
     ----------
     analyses : iterable or mapping
         :class:`eddyphone.pipeline.Analysis` objects (site from the context or the
-        recording), ``(site, Findings)`` pairs, or a ``{site: Findings}`` mapping.
+        recording, posture from the recording), ``(site, Findings)`` pairs, ``(site,
+        posture, Findings)`` triples, or a ``{site: Findings}`` mapping.
     patient_id : str, optional
 
     Returns
