@@ -435,8 +435,9 @@ def test_unreachable_scheduler_is_an_input_error(study, tmp_path):
 
 def test_patients_named_by_the_manifest_get_a_patient_table(tmp_path):
     # The bundled patient examined at the four areas (the mitral area in two postures),
-    # plus a recording without a patient. The simulator made the leaking inflow valve's murmur loudest at the
-    # mitral area (simulate.generator.MURMUR_SITE_DB, common practice); the table row
+    # plus a recording without a patient. The simulator made the leaking inflow valve's
+    # murmur loudest at the mitral area (simulate.generator.MURMUR_SITE_DB, common
+    # practice); the table row
     # must agree with summarise_patient run directly on the same files (the patient
     # view of `eddyphone analyze`), and a run without patients writes no table.
     from _report_data import SAMPLE_AUDIO
