@@ -157,6 +157,19 @@ def test_patient_report_puts_sites_side_by_side(tmp_path):
     assert html.index(">aortic<") < html.index(">mitral<")
     for m in summary.murmurs:
         assert m.spread.split(",")[0] in html
+    # the table's levels are the ones the summary's "N dB softer at ..." compares (re
+    # each recording's own S1), so the two agree
+    from eddyphone.report.patient import site_rows
+
+    header, rows = site_rows(analyses)
+    column = header.index("level (dB re S1)")
+    main = summary.murmurs[0]
+    by_site = {a.recording.site: a for a in analyses}
+    compared = [row for row in rows if by_site[row[0]].findings.main().phase == main.phase]
+    assert compared
+    for row in compared:
+        assert row[column] == f"{main.level_db_by_site[row[0]]:+.1f}"
+    assert "Patient context" in html and "none given" in html
     assert html.count('class="figure"') >= 1
     pages = subprocess.run(["pdfinfo", str(paths["pdf"])], capture_output=True, text=True,
                            check=True).stdout

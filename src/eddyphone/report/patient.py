@@ -108,8 +108,10 @@ def sites_figure(analyses: Sequence[Any]):
 def site_rows(analyses: Sequence[Any], out_dir: Path | None = None
               ) -> tuple[list[str], list[list[str]]]:
     """One row per site: rate, rhythm, murmur, grade, pitch, mechanism, quality, report."""
+    # the level re the same recording's S1, as the patient summary compares sites (S1 is
+    # heard at every site; the louder of S1 and S2 is S2 at the base)
     header = ["site", "recording", "rate (bpm)", "rhythm", "murmur", "pitch",
-              "level (dB re S1/S2)", "beats with it", "top mechanism", "quality"]
+              "level (dB re S1)", "beats with it", "top mechanism", "quality"]
     rows = []
     for a in order_sites(analyses):
         s = a.summary()
@@ -120,7 +122,7 @@ def site_rows(analyses: Sequence[Any], out_dir: Path | None = None
             f"{s['heart_rate_bpm']:.0f}" if text.finite_positive(s.get("heart_rate_bpm")) else "—",
             s.get("rhythm") or "—", _murmur_short(a),
             m.pitch_text if m else "—",
-            f"{m.level_db_re_heart_sounds:+.1f}" if m else "—",
+            f"{m.level_db_re_s1:+.1f}" if m else "—",
             f"{m.beats_with_murmur}/{m.beats_used}" if m else "—",
             top.label if top is not None else "—",
             f"{a.quality.score:.2f}"])
@@ -230,7 +232,9 @@ def _html(patient: str, summary: Any, analyses: Sequence[Any], explanation: Any,
         parts.append(_section(n, title, body, ident=ident))
 
     facts = [("Patient", patient), ("Recordings", str(len(analyses))),
-             ("Sites", ", ".join(_site(a) for a in order_sites(analyses)))]
+             ("Sites", ", ".join(_site(a) for a in order_sites(analyses))),
+             ("Patient context", text.context_words(analyses[0].context)
+              or "none given (the explanations state their defaults)")]
     top = explanation.top() if explanation is not None else None
     if top is not None:
         facts.append(("Most likely mechanism",
