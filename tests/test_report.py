@@ -352,3 +352,16 @@ def test_context_words_name_every_given_fact_with_its_unit():
     assert context_words(given) == ("hematocrit 0.19, cardiac output 7.5 L/min, age 41, "
                                     "exercise, arteriovenous fistula")
     assert context_words(PatientContext()) == "" and context_words(None) == ""
+
+
+def test_patient_line_counts_recordings_in_words():
+    # one line per patient (demo, analyze --patient): "1 recording", "2 recordings"
+    from eddyphone.findings import summarise_patient
+    from eddyphone.findings.records import Findings
+    from eddyphone.report.text import patient_line
+
+    quiet = Findings((), (), (), "absent", "windows stay quiet")
+    one = summarise_patient({"mitral": quiet}, patient_id="Z1")
+    two = summarise_patient({"mitral": quiet, "aortic": quiet}, patient_id="Z2")
+    assert patient_line(one) == "patient Z1, 1 recording: murmur absent"
+    assert patient_line(two) == "patient Z2, 2 recordings: murmur absent"

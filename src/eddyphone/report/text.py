@@ -213,7 +213,8 @@ def companion_words(analysis: Any) -> str:
 def patient_line(summary: Any) -> str:
     """One line for a patient (a :class:`~eddyphone.findings.PatientSummary`): the main
     murmur and how it spreads over the sites."""
-    head = f"patient {summary.patient_id}, {len(summary.sites)} recordings: "
+    n = len(summary.sites)
+    head = f"patient {summary.patient_id}, {n} recording{'s' if n != 1 else ''}: "
     if not summary.murmurs:
         return head + f"murmur {summary.presence}"
     m = summary.murmurs[0]
