@@ -872,6 +872,22 @@ def test_opening_snap_after_a2_is_found(seed):
     assert 1000 * (lo - tol) <= snap[0].timing_ms <= 1000 * (hi + tol)
 
 
+def test_opening_snap_is_not_read_as_p2():
+    # Demo 08: a narrowed inflow valve's snap 85-94 ms after A2, inside the S2
+    # segment, with a physiological split. The split read off the S2 envelope must
+    # stay within the A2-P2 intervals the simulator made (its truth, per beat) and
+    # end before the snap; read with the snap as P2 it was 66 ms, a wide split.
+    from eddyphone.simulate import demo_specs
+
+    sim, f = _findings(demo_specs()["08_diastolic_rumble"])
+    kinds = {e.kind: e for e in f.extra_sounds}
+    assert "opening_snap" in kinds and "split_S2" in kinds
+    made = [1000 * b["s2_split_s"] for b in sim.truth["beats"]]
+    split = kinds["split_S2"]
+    assert min(made) <= split.timing_ms <= max(made)
+    assert split.details["a2_p2_max_ms"] < kinds["opening_snap"].timing_ms
+
+
 def test_onset_of_a_harsh_ejection_murmur_is_not_an_ejection_click(monkeypatch):
     # A benchmark recording (simulator truth: narrowed outflow, no click; 133 bpm,
     # aortic area) where the harsh murmur, 120 ms after S1 in 20 of 31 beats, stands

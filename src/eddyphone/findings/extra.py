@@ -214,9 +214,11 @@ def _conf(fraction: float, n: int) -> float:
     return float(np.clip((fraction - 0.3) / 0.6, 0.0, 1.0) * min(1.0, n / 8.0))
 
 
-def _split_s2(env: np.ndarray, rate: float, bt) -> float | None:
-    """A2-P2 interval (s) from two peaks within the S2 segment, or None if single."""
-    seg, i0 = _seg(env, rate, bt.s2_onset_s - 0.01, bt.s2_offset_s + 0.02)
+def _split_s2(env: np.ndarray, rate: float, bt, end_s: float | None = None) -> float | None:
+    """A2-P2 interval (s) from two peaks within the S2 segment (ending at ``end_s`` when
+    given), or None if single."""
+    end = bt.s2_offset_s + 0.02 if end_s is None else min(bt.s2_offset_s + 0.02, end_s)
+    seg, i0 = _seg(env, rate, bt.s2_onset_s - 0.01, end)
     if len(seg) < 10:
         return None
     peaks, props = signal.find_peaks(seg, distance=max(1, int(MIN_SPLIT_S * rate)))
@@ -260,6 +262,7 @@ def find_extra_sounds(x: np.ndarray, fs: float, beats: Sequence,
     hits: dict[str, list[float]] = {k: [] for k in ("S3", "S4", "ejection_click",
                                                    "opening_snap")}
     splits: list[float | None] = []
+    snap_onsets: list[float | None] = []  # per beat, where an opening snap starts
     for bt in full:
         s2, s1n = bt.s2_onset_s, bt.next_s1_onset_s
         # reference: the beat's quiet level, or the typical level of the window the
@@ -306,6 +309,7 @@ def find_extra_sounds(x: np.ndarray, fs: float, beats: Sequence,
             _seg(mid, rate, s2 - 0.005, s2 + A2_SEARCH_S)[0])) / rate
         win = (max(s2 + lo + 0.01, a2_peak + lo - A2_ONSET_ALLOWANCE_S),
                min(s2 + hi + tol, s1n - 0.08))
+        snap_onsets.append(None)
         if win[1] - win[0] > 0.02:
             ev = _event(high, rate, win, q_dia_high, (s2 - 0.005, a2_peak + 0.03),
                         fall_s=SHORT_FALL_S, fall_db=SHORT_FALL_DB,
@@ -316,6 +320,7 @@ def find_extra_sounds(x: np.ndarray, fs: float, beats: Sequence,
                 a2_pitch = _centroid_hz(x, fs, a2_peak + A2_PITCH_AFTER_PEAK_S)
                 if _centroid_hz(x, fs, ev[0]) >= SNAP_PITCH_RATIO * a2_pitch:
                     hits["opening_snap"].append(1000.0 * (ev[1] - s2))
+                    snap_onsets[-1] = ev[1]
         splits.append(_split_s2(mid, rate, bt))
 
     n = len(full)
@@ -354,6 +359,11 @@ def find_extra_sounds(x: np.ndarray, fs: float, beats: Sequence,
                                   "systolic murmur's onset also fall in the click's window")
         out.append(ExtraSound(id="", kind=kind, confidence=conf, timing_ms=t_med,
                               reference=ref, details=details))
+    if any(e.kind == "opening_snap" for e in out):
+        # a snap inside the S2 segment is not P2: in the beats that show the snap, the
+        # split search ends where it starts (docs/findings.md, split S2)
+        splits = [v if t is None else _split_s2(mid, rate, bt, end_s=t)
+                  for v, t, bt in zip(splits, snap_onsets, full)]
     heard = [v for v in splits if v is not None]
     if len(heard) / n >= MIN_FRACTION:
         sp = np.array(heard)
