@@ -88,7 +88,7 @@ def test_cli_never_overwrites_without_asking(wav, tmp_path):
 def test_cli_json_and_failures_in_a_batch_of_files(wav, tmp_path):
     result = _cli("analyze", str(wav), "--json")
     assert result.returncode == 0
-    assert json.loads(result.stdout)["schema_version"] == "1.1"
+    assert json.loads(result.stdout)["schema_version"] == "1.2"
     broken = tmp_path / "broken.wav"
     broken.write_bytes(b"RIFF0000WAVEjunk")
     out = tmp_path / "mixed"

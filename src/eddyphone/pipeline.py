@@ -11,7 +11,7 @@ import math
 from collections.abc import Mapping
 from dataclasses import dataclass
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 from eddyphone._version import __version__
 from eddyphone.cautions import GENERAL_CAUTIONS
@@ -21,9 +21,12 @@ from eddyphone.context import PatientContext
 from eddyphone.quality import Quality, assess
 from eddyphone.recording import Recording
 
+if TYPE_CHECKING:
+    from eddyphone.segment import Segmentation
+
 #: Version of the JSON output contract. Bump the minor number when keys are
 #: added, the major number when a key changes meaning or disappears.
-SCHEMA_VERSION = "1.1"
+SCHEMA_VERSION = "1.2"
 
 
 @dataclass(frozen=True, eq=False)
@@ -73,6 +76,8 @@ class Analysis:
                           self.conditioned.describe()},
             "context": self.context.to_dict() if self.context else {},
             "quality": self.quality.to_dict(),
+            "segmentation": {"method": seg.method, "feature_fs_hz": seg.feature_fs}
+            if seg is not None else {},
             "rhythm": seg.rhythm.to_dict() if seg is not None else {},
             "segments": [s.to_dict() for s in seg.segments] if seg is not None else [],
             "beats": [b.to_dict() for b in seg.beats] if seg is not None else [],
@@ -106,6 +111,8 @@ def analyze(
     recording: str | Path | Recording,
     context: PatientContext | Mapping[str, object] | None = None,
     config: Config | None = None,
+    *,
+    segmentation: Segmentation | None = None,
 ) -> Analysis:
     """Analyse one recording: segmentation, findings and their physical explanation.
 
@@ -117,6 +124,10 @@ def analyze(
         What is known about the patient (hematocrit, cardiac output, diameters...).
     config : Config, optional
         Settings; the defaults are documented with each stage.
+    segmentation : Segmentation, optional
+        S1, systole, S2 and diastole to use instead of decoding them, e.g. a corrected
+        ``segments.csv`` through
+        :func:`eddyphone.segment.given.segmentation_from_intervals`.
 
     Returns
     -------
@@ -135,8 +146,9 @@ def analyze(
     conditioned = condition(rec.x, rec.fs, config.condition)
     known_hum = conditioned.hum_hz if config.condition.remove_hum else "detect"
     quality = assess(rec.x, rec.fs, config.quality, hum_hz=known_hum)
-    segmentation = segment(conditioned.x, conditioned.fs, quality=quality,
-                           config=config.segment)
+    if segmentation is None:
+        segmentation = segment(conditioned.x, conditioned.fs, quality=quality,
+                               config=config.segment)
     findings = describe(conditioned.x, conditioned.fs, segmentation, quality=quality,
                         config=config.findings)
     explanation = explain(findings, context=context, recording=rec, segmentation=segmentation,

@@ -32,6 +32,15 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("--posture", help="posture during the recording (e.g. supine, sitting)")
     parser.add_argument("--explain", action="store_true",
                         help="print the ranked mechanisms with their physics for each recording")
+    given = parser.add_argument_group(
+        "given segmentation (instead of the automatic one)")
+    given.add_argument("--segments", metavar="FILE",
+                       help="S1/systole/S2/diastole intervals for the one recording given, e.g. "
+                       "a corrected <stem>.segments.csv or a reference annotation (a manifest "
+                       "takes a 'segments' column instead)")
+    given.add_argument("--segment-labels", metavar="MAP",
+                       help="how the segments file spells the states, e.g. "
+                       "'1=S1,2=systole,3=S2,4=diastole' (as for 'eddyphone evaluate')")
     patient = parser.add_argument_group("patient view")
     patient.add_argument("--patient", metavar="ID",
                          help="treat all recordings as one patient's sites; adds a patient summary")
@@ -59,9 +68,9 @@ def run(args: argparse.Namespace) -> int:
     config = _config(args.config)
     out_dir = Path(args.out) if args.out else None
     analyses, failures, stems = [], 0, {}
-    for path, load, manifest_context in jobs:
+    for path, load, manifest_context, segments in jobs:
         try:
-            analysis = _analyse_one(path, load, manifest_context, args, config)
+            analysis = _analyse_one(path, load, manifest_context, segments, args, config)
             if out_dir is not None:
                 from eddyphone.export import write_analysis
 
@@ -93,26 +102,38 @@ def run(args: argparse.Namespace) -> int:
     return 1 if failures else 0
 
 
-def _jobs(args: argparse.Namespace) -> list[tuple[str, dict, dict]]:
-    """Expand folders and read the manifest: ``(path, load options, manifest context)``."""
+def _jobs(args: argparse.Namespace) -> list[tuple[str, dict, dict, str | None]]:
+    """Expand folders and read the manifest: ``(path, load options, manifest context,
+    given segments file or None)``."""
     from pathlib import Path
 
-    jobs: list[tuple[str, dict, dict]] = []
+    from eddyphone.errors import InputError
+
+    jobs: list[tuple[str, dict, dict, str | None]] = []
     if args.manifest:
         from eddyphone.io.manifest import read_manifest, split_row
 
         for row in read_manifest(args.manifest):
             path, load, context, extra = split_row(row, args.manifest)
-            jobs.append((path, {**load, "metadata": extra}, context))
+            segments = extra.pop("segments", None)
+            if segments is not None and not Path(segments).is_absolute():
+                segments = str(Path(args.manifest).parent / segments)
+            jobs.append((path, {**load, "metadata": extra}, context, segments))
     for item in args.recordings:
         path = Path(item)
         if path.is_dir():
             files = sorted(p for p in path.iterdir()
                            if p.suffix.lower() in AUDIO_SUFFIXES and not p.name.startswith("."))
-            jobs.extend((str(p), {}, {}) for p in files)
+            jobs.extend((str(p), {}, {}, None) for p in files)
         else:
-            jobs.append((item, {}, {}))
-    for _, load, _ in jobs:
+            jobs.append((item, {}, {}, None))
+    if args.segments:
+        if len(jobs) != 1:
+            raise InputError(args.segments, f"--segments belongs to one recording but "
+                             f"{len(jobs)} were given", "pass a single recording, or give "
+                             "each its segments in a manifest's 'segments' column")
+        jobs = [(*jobs[0][:3], args.segments)]
+    for _, load, _, _ in jobs:
         if args.patient:
             load.setdefault("patient", args.patient)
         if args.posture:
@@ -139,7 +160,7 @@ def _config(path: str | None):
 
 
 def _analyse_one(path: str, load_options: dict, manifest_context: dict,
-                 args: argparse.Namespace, config):
+                 segments: str | None, args: argparse.Namespace, config):
     from eddyphone.context import PatientContext
     from eddyphone.errors import InputError, ParameterError
     from eddyphone.io import load
@@ -152,7 +173,23 @@ def _analyse_one(path: str, load_options: dict, manifest_context: dict,
         context = PatientContext(**{**given, **manifest_context, "site": _known_site(rec.site)})
     except ParameterError as exc:
         raise InputError(path, str(exc), "correct the option or manifest value") from None
-    return analyze(rec, context=context, config=config)
+    segmentation = _given_segmentation(segments, rec, args) if segments else None
+    return analyze(rec, context=context, config=config, segmentation=segmentation)
+
+
+def _given_segmentation(segments: str, rec, args: argparse.Namespace):
+    """The segmentation read from ``segments`` (any layout ``eddyphone evaluate`` reads)."""
+    from eddyphone.errors import InputError, ParameterError
+    from eddyphone.evaluate import parse_label_map, read_annotation
+    from eddyphone.segment.given import segmentation_from_intervals
+
+    try:
+        label_map = parse_label_map(args.segment_labels)
+    except ParameterError as exc:
+        raise InputError(args.segment_labels, str(exc),
+                         "write it as raw=state pairs, e.g. 1=S1,2=systole") from None
+    return segmentation_from_intervals(read_annotation(segments, label_map), rec.duration_s,
+                                       source=segments)
 
 
 def _known_site(site: str | None) -> str | None:

@@ -68,8 +68,9 @@ class Segmentation:
     rhythm : Rhythm
     skipped : tuple of (start_s, end_s, reason)
         Stretches not segmented and why.
-    feature_fs : float
-        Frame rate of the decoder in Hz (boundaries are multiples of its period).
+    feature_fs : float or None
+        Frame rate of the decoder in Hz (boundaries are multiples of its period); None
+        for a segmentation given by the user (:mod:`eddyphone.segment.given`).
     method : str
     """
 
@@ -77,7 +78,7 @@ class Segmentation:
     beats: tuple[Beat, ...]
     rhythm: Rhythm
     skipped: tuple[tuple[float, float, str], ...]
-    feature_fs: float
+    feature_fs: float | None
     method: str
 
     def segment_rows(self) -> list[tuple[float, float, str]]:
