@@ -107,6 +107,39 @@ def test_manifest_context_columns_reach_the_analysis(tmp_path, study):
     assert data["recording"]["metadata"] == {"cohort": "x"}
 
 
+def test_a_manifest_segments_column_gives_the_segmentation(tmp_path):
+    # Reference annotations beside the recordings (here the simulator's truth.csv of
+    # demo 05, a relative path): the row is analysed on them; a row whose segments file
+    # is missing fails alone. Correcting the segments file and running again into the
+    # same folder recomputes that row (its content is part of the record key) and the
+    # features follow the correction.
+    from _report_data import SAMPLE_AUDIO
+
+    (tmp_path / "ref").mkdir()
+    given = tmp_path / "ref" / "leak.csv"
+    given.write_text((SAMPLE_AUDIO / "05_systolic_leak.truth.csv").read_text())
+    manifest = tmp_path / "m.csv"
+    manifest.write_text("path,segments\n"
+                        f"{SAMPLE_AUDIO / '05_systolic_leak.wav'},ref/leak.csv\n"
+                        f"{SAMPLE_AUDIO / '01_resting_adult.wav'},ref/none.csv\n")
+    out = tmp_path / "out"
+    first = run_batch([manifest], out, workers=1, progress=False)
+    assert len(first) == 1
+    row = first.iloc[0]
+    assert row["segmentation_method"] == "given: leak.csv" and row["murmur_timing"] == "holo"
+    assert row["segments"] == str(given)  # the manifest column travels, resolved
+    errors = pd.read_csv(out / "errors.csv")
+    assert len(errors) == 1 and "none.csv cannot be read" in errors.loc[0, "reason"]
+    lines = given.read_text().splitlines()
+    rows = [ln.split(",") for ln in lines[1:]]
+    k = next(i for i, r in enumerate(rows) if r[2] == "S2")
+    moved = f"{float(rows[k][0]) + 0.03:.6f}"  # first S2 onset 30 ms later
+    rows[k][0] = rows[k - 1][1] = moved
+    given.write_text("\n".join([lines[0]] + [",".join(r) for r in rows]) + "\n")
+    second = run_batch([manifest], out, workers=1, progress=False)
+    assert second.iloc[0]["beats_systole_ms_mean"] > row["beats_systole_ms_mean"]
+
+
 # --- feature rows -------------------------------------------------------------------
 
 def test_feature_row_matches_a_direct_analysis(study, reference):

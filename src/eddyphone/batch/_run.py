@@ -128,22 +128,32 @@ def _keys(items: Sequence[BatchItem], digest: str, version: str
     """Record key of each item (None where the file cannot be read, with the reason)."""
     from concurrent.futures import ThreadPoolExecutor
 
-    def one(item: BatchItem) -> tuple[str | None, str | None]:
+    def one(item: BatchItem) -> tuple[str | None, str | None, str | None]:
+        """(recording hash, given segments' hash, problem)."""
         try:
-            return content_hash(item.path), None
+            sha = content_hash(item.path)
         except FileNotFoundError:
-            return None, "file not found; check the path and the file name"
+            return None, None, "file not found; check the path and the file name"
         except IsADirectoryError:
-            return None, "is a folder, not a recording; give the folder itself as an input"
+            return None, None, "is a folder, not a recording; give the folder itself as an input"
         except OSError as exc:
-            return None, f"cannot be read ({exc.strerror or exc}); check the file permissions"
+            return None, None, (f"cannot be read ({exc.strerror or exc}); check the file "
+                                "permissions")
+        given = item.extra.get("segments")
+        if given is None:
+            return sha, None, None
+        try:  # a corrected segmentation makes a new result: its content is in the key
+            return sha, content_hash(given), None
+        except OSError:
+            return None, None, (f"its segments file {given} cannot be read; check the "
+                                "manifest's segments column")
 
     with ThreadPoolExecutor(max_workers=4) as pool:
         results = list(pool.map(one, items))
     keys: list[str | None] = []
     hashes: list[str | None] = []
     errors: dict[int, str] = {}
-    for i, (item, (sha, problem)) in enumerate(zip(items, results)):
+    for i, (item, (sha, segments_sha, problem)) in enumerate(zip(items, results)):
         hashes.append(sha)
         if sha is None:
             keys.append(None)
@@ -151,6 +161,8 @@ def _keys(items: Sequence[BatchItem], digest: str, version: str
             continue
         options = {"load": dict(item.load), "context": _plain(item.context),
                    "extra": dict(item.extra)}
+        if segments_sha is not None:
+            options["segments_sha256"] = segments_sha
         keys.append(record_key(sha, digest, version, options))
     return keys, errors, hashes
 

@@ -12,6 +12,8 @@ columns                from
                        unprefixed)
 ``quality_*``          ``quality`` scalars and ``measures`` (unprefixed within
                        ``quality_``); window counts and unusable seconds
+``segmentation_*``     ``segmentation`` scalars (``method``: the decoder, or
+                       ``given: <file>``)
 ``rhythm_*``           ``rhythm`` scalars
 ``beats_*``            count, and mean / sd of every numeric per-beat field
 ``segments_*``         count, seconds per label, fraction of the recording
@@ -78,6 +80,7 @@ def recording_row(data: Mapping[str, Any]) -> dict[str, Any]:
 
     row.update(flatten(data.get("summary") or {}, ""))
     row.update(_quality_columns(data.get("quality") or {}))
+    row.update(flatten(data.get("segmentation") or {}, "segmentation"))
     row.update(flatten({k: v for k, v in (data.get("rhythm") or {}).items() if k != "rr_s"},
                        "rhythm"))
     row.update(_beat_columns(data.get("beats") or []))

@@ -96,16 +96,26 @@ def _analyse(task: Mapping[str, Any]) -> dict[str, Any]:
     from eddyphone.pipeline import analyze
 
     load_options = dict(task.get("load") or {})
+    extra = dict(task.get("extra") or {})
+    segments = extra.pop("segments", None)  # a given segmentation (manifest column)
     rec = load(task["path"], site=load_options.get("site"),
                posture=load_options.get("posture"), patient=load_options.get("patient"),
-               metadata=dict(task.get("extra") or {}) or None)
+               metadata=extra or None)
     site = rec.site if rec.site in KNOWN_SITES else (None if rec.site is None else "other")
     try:
         context = PatientContext.from_mapping({**dict(task.get("context") or {}), "site": site})
     except ParameterError as exc:
         raise InputError(task["path"], f"patient context: {exc}",
                          "correct the manifest column and run again") from None
-    return analyze(rec, context=context, config=task["config"]).to_dict()
+    segmentation = None
+    if segments is not None:
+        from eddyphone.evaluate import read_annotation
+        from eddyphone.segment.given import segmentation_from_intervals
+
+        segmentation = segmentation_from_intervals(read_annotation(segments), rec.duration_s,
+                                                   source=segments)
+    return analyze(rec, context=context, config=task["config"],
+                   segmentation=segmentation).to_dict()
 
 
 def _reason(exc: BaseException) -> str:

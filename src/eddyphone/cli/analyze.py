@@ -116,8 +116,6 @@ def _jobs(args: argparse.Namespace) -> list[tuple[str, dict, dict, str | None]]:
         for row in read_manifest(args.manifest):
             path, load, context, extra = split_row(row, args.manifest)
             segments = extra.pop("segments", None)
-            if segments is not None and not Path(segments).is_absolute():
-                segments = str(Path(args.manifest).parent / segments)
             jobs.append((path, {**load, "metadata": extra}, context, segments))
     for item in args.recordings:
         path = Path(item)

@@ -15,7 +15,8 @@ from eddyphone.errors import InputError
 
 
 def read_manifest(path: str | Path) -> list[dict[str, str]]:
-    """Read a manifest; relative paths are taken relative to the manifest's folder.
+    """Read a manifest; relative paths (``path``, and ``segments``: a given segmentation
+    per recording) are taken relative to the manifest's folder.
 
     Every column is kept (empty cells dropped) so that study columns travel
     through to the outputs.
@@ -33,8 +34,10 @@ def read_manifest(path: str | Path) -> list[dict[str, str]]:
                 entry = {k: v for k, v in entry.items() if v}
                 if "path" not in entry:
                     continue
-                p = Path(entry["path"])
-                entry["path"] = str(p if p.is_absolute() else path.parent / p)
+                for column in PATH_COLUMNS:
+                    if column in entry:
+                        p = Path(entry[column])
+                        entry[column] = str(p if p.is_absolute() else path.parent / p)
                 rows.append(entry)
     except OSError as exc:
         raise InputError(str(path), f"cannot read the manifest ({exc.strerror})",
@@ -44,6 +47,8 @@ def read_manifest(path: str | Path) -> list[dict[str, str]]:
     return rows
 
 
+#: Manifest columns holding file paths, resolved against the manifest's folder.
+PATH_COLUMNS = ("path", "segments")
 #: Manifest columns passed to :func:`eddyphone.io.load`.
 LOAD_COLUMNS = ("patient", "site", "posture")
 #: Manifest columns that become :class:`~eddyphone.context.PatientContext` fields
