@@ -365,3 +365,34 @@ def test_patient_line_counts_recordings_in_words():
     two = summarise_patient({"mitral": quiet, "aortic": quiet}, patient_id="Z2")
     assert patient_line(one) == "patient Z1, 1 recording: murmur absent"
     assert patient_line(two) == "patient Z2, 2 recordings: murmur absent"
+
+
+def test_figure_titles_stay_inside_their_figures():
+    # A recording with a skipped stretch (here the part before a given segmentation
+    # starts) adds to the overview's title; every title must still fit its figure
+    # (seen in headless Chromium: it ran past the right edge).
+    import eddyphone
+    from eddyphone.evaluate import read_annotation
+    from eddyphone.io import load
+    from eddyphone.segment.given import segmentation_from_intervals
+
+    rec = load(MURMUR_CASE)
+    truth = MURMUR_CASE.with_name(MURMUR_CASE.name.replace(".wav", ".truth.csv"))
+    seg = segmentation_from_intervals(read_annotation(truth), rec.duration_s,
+                                      source=str(truth))
+    assert seg.skipped
+    analysis = eddyphone.analyze(rec, segmentation=seg)
+    checked = 0
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
+
+    for name, fig in figs.all_figures(analysis).items():
+        FigureCanvasAgg(fig).draw()  # lay out as when saved
+        renderer = fig.canvas.get_renderer()
+        width = fig.bbox.width
+        for ax in fig.axes:
+            for title in (ax.title, ax._left_title, ax._right_title):
+                if title.get_text():
+                    box = title.get_window_extent(renderer)
+                    assert box.x0 >= -1 and box.x1 <= width + 1, (name, title.get_text())
+                    checked += 1
+    assert checked >= 5

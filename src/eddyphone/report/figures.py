@@ -251,10 +251,10 @@ def _whole_strip(ax, analysis: Any, t0: float, t1: float) -> None:
     ax.spines["left"].set_visible(False)
     ax.set_xlabel("time (s)", labelpad=1)
     n_bad = sum(1 for w in getattr(analysis.quality, "windows", ()) if not w.usable)
-    extra = f"; {n_bad} window(s) unusable (shaded), skipped stretches hatched" if n_bad or \
-        _skipped(analysis) else ""
-    ax.set_title(f"Whole recording ({duration:.0f} s); framed: the detail below{extra}",
-                 fontsize=8.5, fontweight="normal")
+    marks = ([f"{n_bad} unusable window{'s' if n_bad > 1 else ''} shaded"] if n_bad else []) \
+        + (["skipped stretches hatched"] if _skipped(analysis) else [])
+    ax.set_title("; ".join([f"Whole recording ({duration:.0f} s), framed: the detail below",
+                            *marks]), fontsize=8.5, fontweight="normal")
 
 
 # --- spectrogram ----------------------------------------------------------------------
