@@ -91,3 +91,16 @@ def test_described_murmur_matches_direct_explanation():
     e = explain(f)
     assert e.top().name == "narrowed_orifice"
     assert f.murmurs[0].pitch == "low" and f.extra_sounds[0].kind == "opening_snap"
+
+
+def test_every_quality_word_the_findings_write_can_be_described(capsys):
+    # A murmur described by hand takes every quality word the findings can write (a
+    # continuous murmur is "machinery"), so a saved finding can be retyped.
+    from eddyphone.cli.explain import QUALITY_CHOICES
+    from eddyphone.findings.words import QUALITY_WORDS
+
+    assert QUALITY_CHOICES == QUALITY_WORDS
+    assert main(["explain", "--phase", "continuous", "--timing", "holo", "--shape",
+                 "crescendo-decrescendo", "--frequency-hz", "250", "--quality",
+                 "machinery"]) == 0
+    assert "a shunt" in capsys.readouterr().out

@@ -16,6 +16,11 @@ HELP = ("rank the physical mechanisms of a murmur: from a saved analysis JSON, o
 ORDER = 40
 
 
+#: The quality words of ``findings.words.QUALITY_WORDS``, spelled out here so that
+#: ``--help`` does not import the findings (a test keeps the two equal).
+QUALITY_CHOICES = ("harsh", "blowing", "rumbling", "musical", "machinery")
+
+
 def add_arguments(parser: argparse.ArgumentParser) -> None:
     """Register the options of ``explain``."""
     parser.add_argument("result", nargs="?", metavar="JSON",
@@ -33,7 +38,7 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     m.add_argument("--grade", default="II", metavar="GRADE",
                    help="grade or range on I-III, e.g. II or I-II (default II)")
     m.add_argument("--quality", action="append", default=[], metavar="WORD",
-                   choices=("harsh", "blowing", "rumbling", "musical"),
+                   choices=QUALITY_CHOICES,
                    help="sound quality, repeatable")
     m.add_argument("--peak-fraction", type=float, metavar="0-1",
                    help="where in its window the murmur peaks")

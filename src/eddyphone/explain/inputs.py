@@ -13,11 +13,12 @@ from collections.abc import Iterable, Mapping, Sequence
 from dataclasses import fields
 
 from eddyphone.errors import InputError, ParameterError
+from eddyphone.findings.words import QUALITY_WORDS
 
 _PHASES = ("systolic", "diastolic", "continuous")
 _TIMINGS = ("early", "mid", "late", "holo")
 _SHAPES = ("crescendo", "decrescendo", "crescendo-decrescendo", "plateau")
-_WORDS = ("harsh", "blowing", "rumbling", "musical", "machinery")
+_WORDS = QUALITY_WORDS
 
 
 def findings_from_list(items: Sequence[Mapping[str, object]], *, presence: str | None = None,

@@ -96,6 +96,11 @@ def _peak_position(p_db: np.ndarray, x: np.ndarray, k: int) -> float:
     return float(x[k])
 
 
+#: Every quality word a murmur can carry (see :func:`quality_words` and
+#: :func:`continuous_words`).
+QUALITY_WORDS = ("harsh", "blowing", "rumbling", "musical", "machinery")
+
+
 def continuous_words(words: tuple[str, ...]) -> tuple[str, ...]:
     """The words of a murmur found to run through S2: ``machinery``, the trade's word
     for the continuous murmur of an open arterial duct (common practice), unless it is
