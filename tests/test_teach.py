@@ -180,3 +180,19 @@ def test_teach_command_writes_the_four_renders(tmp_path):
                             "--out", str(tmp_path)], capture_output=True, text=True, timeout=600)
     assert again.returncode != 0 and "already exists" in again.stderr
     assert len(again.stderr.strip().splitlines()) == 1
+
+
+def test_teach_on_a_given_segmentation_loops_the_given_beat(tmp_path):
+    # An educator's corrected segmentation drives the renders: the loop of beat 2 lasts
+    # four of that beat's cycles as the given intervals time it (here the simulator's
+    # own S1 onsets, truth.csv of the same recording).
+    truth = MURMUR_CASE.with_name(MURMUR_CASE.stem + ".truth.csv")
+    onsets = [float(r.split(",")[0]) for r in truth.read_text().splitlines()[1:]
+              if r.split(",")[2] == "S1"]
+    result = subprocess.run([sys.executable, "-m", "eddyphone.cli", "teach", str(MURMUR_CASE),
+                             "--out", str(tmp_path), "--only", "beat-loop", "--beat", "2",
+                             "--repeats", "4", "--segments", str(truth)],
+                            capture_output=True, text=True, timeout=600)
+    assert result.returncode == 0, result.stderr
+    loop = sf.info(str(tmp_path / f"{MURMUR_CASE.stem}.teach.beat-loop.wav"))
+    assert loop.duration == pytest.approx(4 * (onsets[3] - onsets[2]), abs=0.001)

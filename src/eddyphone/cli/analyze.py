@@ -5,6 +5,7 @@ from __future__ import annotations
 import argparse
 
 from eddyphone.cli._context import add_context_arguments, context_values
+from eddyphone.cli._segments import add_segments_arguments, given_segmentation
 
 NAME = "analyze"
 HELP = "segment, describe and explain recordings; write JSON, CSV and reports"
@@ -32,15 +33,8 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("--posture", help="posture during the recording (e.g. supine, sitting)")
     parser.add_argument("--explain", action="store_true",
                         help="print the ranked mechanisms with their physics for each recording")
-    given = parser.add_argument_group(
-        "given segmentation (instead of the automatic one)")
-    given.add_argument("--segments", metavar="FILE",
-                       help="S1/systole/S2/diastole intervals for the one recording given, e.g. "
-                       "a corrected <stem>.segments.csv or a reference annotation (a manifest "
-                       "takes a 'segments' column instead)")
-    given.add_argument("--segment-labels", metavar="MAP",
-                       help="how the segments file spells the states, e.g. "
-                       "'1=S1,2=systole,3=S2,4=diastole' (as for 'eddyphone evaluate')")
+    add_segments_arguments(parser, manifest_note=" (for one recording; a manifest takes "
+                           "a 'segments' column instead)")
     patient = parser.add_argument_group("patient view")
     patient.add_argument("--patient", metavar="ID",
                          help="treat all recordings as one patient's sites; adds a patient summary")
@@ -171,23 +165,9 @@ def _analyse_one(path: str, load_options: dict, manifest_context: dict,
         context = PatientContext(**{**given, **manifest_context, "site": _known_site(rec.site)})
     except ParameterError as exc:
         raise InputError(path, str(exc), "correct the option or manifest value") from None
-    segmentation = _given_segmentation(segments, rec, args) if segments else None
+    segmentation = (given_segmentation(segments, rec, args.segment_labels)
+                    if segments else None)
     return analyze(rec, context=context, config=config, segmentation=segmentation)
-
-
-def _given_segmentation(segments: str, rec, args: argparse.Namespace):
-    """The segmentation read from ``segments`` (any layout ``eddyphone evaluate`` reads)."""
-    from eddyphone.errors import InputError, ParameterError
-    from eddyphone.evaluate import parse_label_map, read_annotation
-    from eddyphone.segment.given import segmentation_from_intervals
-
-    try:
-        label_map = parse_label_map(args.segment_labels)
-    except ParameterError as exc:
-        raise InputError(args.segment_labels, str(exc),
-                         "write it as raw=state pairs, e.g. 1=S1,2=systole") from None
-    return segmentation_from_intervals(read_annotation(segments, label_map), rec.duration_s,
-                                       source=segments)
 
 
 def _known_site(site: str | None) -> str | None:

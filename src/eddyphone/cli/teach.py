@@ -5,6 +5,8 @@ from __future__ import annotations
 
 import argparse
 
+from eddyphone.cli._segments import add_segments_arguments, given_segmentation
+
 NAME = "teach"
 HELP = "write teaching renders of a recording: slowed with pitch kept, murmur only, " \
        "heart sounds only, one beat looped"
@@ -36,6 +38,7 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
                         help="channel to use (default: the one with most heart-band energy)")
     parser.add_argument("--overwrite", action="store_true",
                         help="replace renders that already exist in --out")
+    add_segments_arguments(parser)
 
 
 def run(args: argparse.Namespace) -> int:
@@ -55,7 +58,9 @@ def run(args: argparse.Namespace) -> int:
     if taken and not args.overwrite:
         raise InputError(args.recording, f"{taken[0]} already exists",
                          "choose another --out folder or pass --overwrite")
-    analysis = analyze(rec)
+    segmentation = (given_segmentation(args.segments, rec, args.segment_labels)
+                    if args.segments else None)
+    analysis = analyze(rec, segmentation=segmentation)
     signals, skipped = render_signals(analysis, speed=args.speed,
                                       attenuation_db=args.attenuation_db,
                                       repeats=args.repeats, beat=args.beat, only=only)
