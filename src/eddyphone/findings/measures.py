@@ -150,8 +150,6 @@ class Profiles:
         Per-beat reference (the quiet parts), see ``FindingsConfig.reference_percentile``.
     s1_power, s2_power : ndarray, shape (beats, bands)
         Mean band power over the S1 and S2 segments.
-    hs_spectrum : ndarray, shape (beats, freqs)
-        Mean power spectrum of S1 and S2 (the recording's own pitch reference).
     """
 
     beat_index: np.ndarray
@@ -161,7 +159,6 @@ class Profiles:
     reference: np.ndarray
     s1_power: np.ndarray
     s2_power: np.ndarray
-    hs_spectrum: np.ndarray
 
     @property
     def n_beats(self) -> int:
@@ -191,14 +188,6 @@ def analysis_frame_s(beats: Sequence, frame_s: float) -> float:
     return float(np.clip(np.median(sys) / 3.0, 0.012, frame_s))
 
 
-def _mean_spectrum(spec: Spectrogram, a: float, b: float) -> np.ndarray:
-    i0, i1 = np.searchsorted(spec.t, [a, b])
-    if i1 <= i0:
-        i0 = min(max(int(np.searchsorted(spec.t, 0.5 * (a + b))), 0), len(spec.t) - 1)
-        i1 = i0 + 1
-    return spec.power[i0:i1].mean(axis=0).astype(float)
-
-
 def beat_profiles(spec: Spectrogram, beats: Sequence, config: FindingsConfig,
                   *, min_window_s: float | None = None) -> Profiles:
     """Measure every beat that has both windows.
@@ -218,7 +207,7 @@ def beat_profiles(spec: Spectrogram, beats: Sequence, config: FindingsConfig,
     """
     n_bins = config.bins_per_window
     n_bands = spec.band_power.shape[0]
-    rows, wins, guards, pw, s1p, s2p, hs = [], [], [], [], [], [], []
+    rows, wins, guards, pw, s1p, s2p = [], [], [], [], [], []
     for bt in beats:
         if getattr(bt, "confidence", 1.0) < config.min_beat_confidence:
             continue
@@ -237,16 +226,13 @@ def beat_profiles(spec: Spectrogram, beats: Sequence, config: FindingsConfig,
         pw.append(p)
         s1p.append(_mean_between(spec, bt.s1_onset_s, bt.s1_offset_s))
         s2p.append(_mean_between(spec, bt.s2_onset_s, bt.s2_offset_s))
-        hs.append(0.5 * (_mean_spectrum(spec, bt.s1_onset_s, bt.s1_offset_s)
-                         + _mean_spectrum(spec, bt.s2_onset_s, bt.s2_offset_s)))
     if not rows:
         empty = np.zeros((0, n_bands))
         return Profiles(np.zeros(0, dtype=int), np.zeros((0, 2, 2)), np.zeros((0, 2)),
-                        np.zeros((0, 2, n_bands, n_bins)), empty, empty, empty,
-                        np.zeros((0, len(spec.f))))
+                        np.zeros((0, 2, n_bands, n_bins)), empty, empty, empty)
     power = np.maximum(np.array(pw), 1e-30)
     flat = power.transpose(0, 2, 1, 3).reshape(len(rows), n_bands, 2 * n_bins)
     ref = np.percentile(flat, config.reference_percentile, axis=2)
     return Profiles(np.array(rows), np.array(wins, dtype=float), np.array(guards, dtype=float),
                     power,
-                    np.maximum(ref, 1e-30), np.array(s1p), np.array(s2p), np.array(hs))
+                    np.maximum(ref, 1e-30), np.array(s1p), np.array(s2p))
