@@ -140,6 +140,31 @@ def test_a_manifest_segments_column_gives_the_segmentation(tmp_path):
     assert second.iloc[0]["beats_systole_ms_mean"] > row["beats_systole_ms_mean"]
 
 
+def test_numbered_states_of_a_segments_column_read_through_a_label_map(tmp_path):
+    # A dataset that numbers the states (tab-separated, no header; an invented file in
+    # that layout): the batch-wide label map reads them; without it nothing is a cycle
+    # state and the row fails alone, naming the file.
+    from _report_data import SAMPLE_AUDIO
+
+    names = {"S1": "1", "systole": "2", "S2": "3", "diastole": "4"}
+    rows = [ln.split(",") for ln in
+            (SAMPLE_AUDIO / "05_systolic_leak.truth.csv").read_text().splitlines()[1:]]
+    (tmp_path / "leak.tsv").write_text("".join(f"{a}\t{b}\t{names[lab]}\n"
+                                               for a, b, lab in rows if lab in names))
+    manifest = tmp_path / "m.csv"
+    manifest.write_text(f"path,segments\n{SAMPLE_AUDIO / '05_systolic_leak.wav'},leak.tsv\n")
+    plain = run_batch([manifest], tmp_path / "plain", workers=1, progress=False)
+    errors = pd.read_csv(tmp_path / "plain" / "errors.csv")
+    assert len(plain) == 0 and "no S1, systole, S2 or diastole" in errors.loc[0, "reason"]
+    mapped = run_batch([manifest], tmp_path / "mapped", workers=1, progress=False,
+                       segment_labels="1=S1,2=systole,3=S2,4=diastole")
+    assert mapped.iloc[0]["segmentation_method"] == "given: leak.tsv"
+    assert mapped.iloc[0]["murmur_timing"] == "holo"
+    with pytest.raises(ParameterError):
+        run_batch([manifest], tmp_path / "bad", workers=1, progress=False,
+                  segment_labels="no pairs here")
+
+
 # --- feature rows -------------------------------------------------------------------
 
 def test_feature_row_matches_a_direct_analysis(study, reference):

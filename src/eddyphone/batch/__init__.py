@@ -32,7 +32,8 @@ FORMATS = ("parquet", "csv")
 
 
 def run_batch(inputs, out_dir, *, workers=None, scheduler=None, config=None, beats=False,
-              fmt="parquet", per_recording_json=False, retry_failed=False, progress=True):
+              fmt="parquet", per_recording_json=False, retry_failed=False, progress=True,
+              segment_labels=None):
     """Analyse many recordings and write the study tables.
 
     Parameters
@@ -59,6 +60,9 @@ def run_batch(inputs, out_dir, *, workers=None, scheduler=None, config=None, bea
         (by default they are reported again without a new attempt).
     progress : bool
         Show a progress line on stderr.
+    segment_labels : str or mapping, optional
+        How the manifest's ``segments`` files spell the cycle states (``"1=S1,2=systole,
+        3=S2,4=diastole"``, as :func:`eddyphone.evaluate.parse_label_map` reads it).
 
     Returns
     -------
@@ -73,10 +77,10 @@ def run_batch(inputs, out_dir, *, workers=None, scheduler=None, config=None, bea
         No inputs found, an input does not exist, or another batch is writing
         to ``out_dir``.
     ParameterError
-        ``workers`` or ``fmt`` not allowed.
+        ``workers``, ``fmt`` or ``segment_labels`` not allowed.
     """
     from eddyphone.batch._run import run
 
     return run(inputs, out_dir, workers=workers, scheduler=scheduler, config=config,
                beats=beats, fmt=fmt, per_recording_json=per_recording_json,
-               retry_failed=retry_failed, progress=progress)
+               retry_failed=retry_failed, progress=progress, segment_labels=segment_labels)

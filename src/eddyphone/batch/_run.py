@@ -28,10 +28,13 @@ _FIRST_COLUMNS = ("path", "patient", "site", "posture")
 
 def run(inputs: Any, out_dir: str | Path, *, workers: int | None, scheduler: str | None,
         config: Any, beats: bool, fmt: str, per_recording_json: bool, retry_failed: bool,
-        progress: bool) -> Any:
+        progress: bool, segment_labels: Any = None) -> Any:
     """See :func:`eddyphone.batch.run_batch`."""
     from eddyphone._version import __version__
     from eddyphone.config import Config
+    from eddyphone.evaluate import parse_label_map
+
+    labels = parse_label_map(segment_labels)
 
     if fmt not in ("parquet", "csv"):
         raise ParameterError(f"fmt={fmt!r} is not a table format; use 'parquet' or 'csv'")
@@ -50,7 +53,7 @@ def run(inputs: Any, out_dir: str | Path, *, workers: int | None, scheduler: str
         _remove_temporaries(out_dir)
         digest = config.digest()
         code = code_digest()
-        keys, hash_errors, hashes = _keys(items, digest, f"{__version__}+{code}")
+        keys, hash_errors, hashes = _keys(items, digest, f"{__version__}+{code}", labels)
         records: dict[str, dict[str, Any]] = {}
         reused = set()
         for key in dict.fromkeys(k for k in keys if k is not None):
@@ -72,7 +75,7 @@ def run(inputs: Any, out_dir: str | Path, *, workers: int | None, scheduler: str
             tasks.append({"key": key, "path": item.path, "load": dict(item.load),
                           "context": dict(item.context), "extra": dict(item.extra),
                           "config": config, "want_json": per_recording_json,
-                          "code_digest": code})
+                          "code_digest": code, "segment_labels": labels})
         where = f"the cluster at {scheduler}" if scheduler else \
             f"{min(workers, max(len(tasks), 1))} worker process(es)"
         say(f"{len(items)} recordings: {len(reused)} already done, "
@@ -123,7 +126,8 @@ def run(inputs: Any, out_dir: str | Path, *, workers: int | None, scheduler: str
     return table
 
 
-def _keys(items: Sequence[BatchItem], digest: str, version: str
+def _keys(items: Sequence[BatchItem], digest: str, version: str,
+          segment_labels: Mapping[str, str] | None = None
           ) -> tuple[list[str | None], dict[int, str], list[str | None]]:
     """Record key of each item (None where the file cannot be read, with the reason)."""
     from concurrent.futures import ThreadPoolExecutor
@@ -163,6 +167,8 @@ def _keys(items: Sequence[BatchItem], digest: str, version: str
                    "extra": dict(item.extra)}
         if segments_sha is not None:
             options["segments_sha256"] = segments_sha
+            if segment_labels:
+                options["segment_labels"] = dict(segment_labels)
         keys.append(record_key(sha, digest, version, options))
     return keys, errors, hashes
 

@@ -112,8 +112,9 @@ def _analyse(task: Mapping[str, Any]) -> dict[str, Any]:
         from eddyphone.evaluate import read_annotation
         from eddyphone.segment.given import segmentation_from_intervals
 
-        segmentation = segmentation_from_intervals(read_annotation(segments), rec.duration_s,
-                                                   source=segments)
+        segmentation = segmentation_from_intervals(
+            read_annotation(segments, task.get("segment_labels")), rec.duration_s,
+            source=segments)
     return analyze(rec, context=context, config=task["config"],
                    segmentation=segmentation).to_dict()
 

@@ -32,6 +32,9 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("--retry-failed", action="store_true",
                         help="analyse again files that failed in an earlier run")
     parser.add_argument("--quiet", action="store_true", help="no progress line")
+    parser.add_argument("--segment-labels", metavar="MAP",
+                        help="how the files of a manifest's 'segments' column spell the "
+                        "states, e.g. '1=S1,2=systole,3=S2,4=diastole'")
 
 
 def run(args: argparse.Namespace) -> int:
@@ -57,5 +60,5 @@ def run(args: argparse.Namespace) -> int:
     table = run_batch(args.inputs, args.out, workers=args.workers, scheduler=args.scheduler,
                       config=config, beats=args.beats, fmt="csv" if args.csv else "parquet",
                       per_recording_json=args.json, retry_failed=args.retry_failed,
-                      progress=not args.quiet)
+                      progress=not args.quiet, segment_labels=args.segment_labels)
     return 1 if table.attrs["counts"]["failed"] else 0
