@@ -119,3 +119,21 @@ def test_segments_belong_to_one_recording(tmp_path, capsys):
     short.write_text("start_s,end_s,label\n0.1,0.2,S1\n0.2,30.0,systole\n")
     assert main(["analyze", str(LEAK), "--segments", str(short), "--json"]) != 0
     assert "lies outside the 15.00-s recording" in capsys.readouterr().err
+
+
+def test_sound_only_annotations_get_their_silences_filled():
+    # Many annotations mark only S1 and S2. Filling systole (S1 to S2) and diastole (S2
+    # to S1) between them gives back the simulator's full segmentation (its truth.csv,
+    # where the silences are exactly the gaps between the sounds); a gap longer than a
+    # diastole can be (segment.given.MAX_FILLED_GAP_S) stays unannotated.
+    from eddyphone.evaluate import read_annotation
+
+    full = [r for r in read_annotation(TRUTH) if r[2] in ("S1", "systole", "S2", "diastole")]
+    sounds = [r for r in full if r[2] in ("S1", "S2")]
+    a = segmentation_from_intervals(full, 15.0, source="full.csv")
+    b = segmentation_from_intervals(sounds, 15.0, source="sounds.csv")
+    # the same beats; only the recording's last diastole (no S1 after it) is not filled
+    assert b.beats == a.beats and b.segments == a.segments[:-1]
+    gap = [(1.0, 1.1, "S1"), (1.3, 1.4, "S2"), (4.0, 4.1, "S1")]
+    labels = [s.label for s in segmentation_from_intervals(gap, 15.0, source="g").segments]
+    assert labels == ["S1", "systole", "S2", "S1"]

@@ -26,6 +26,11 @@ from eddyphone.segment.durations import STATES
 #: Overlap (s) tolerated between neighbouring intervals: hand-made tables and other
 #: tools round their boundaries (our own allowance, a frame of the decoder).
 OVERLAP_TOLERANCE_S = 0.005
+#: Annotations that mark only the sounds (S1 and S2, no systole or diastole rows) get
+#: the silences between them filled in: systole from an S1 to the next S2, diastole
+#: from an S2 to the next S1, when the gap is shorter than this (s; the longest
+#: diastole at 30 bpm, our own bound); a longer gap is a stretch left unannotated.
+MAX_FILLED_GAP_S = 2.0
 #: Stretches at least this long (s) before the first or after the last given
 #: interval are reported as skipped, "not in the given segmentation".
 UNCOVERED_MIN_S = 0.5
@@ -39,7 +44,9 @@ def segmentation_from_intervals(intervals: Sequence[tuple[float, float, str]],
     ----------
     intervals : sequence of (start_s, end_s, label)
         Labels other than ``S1``, ``systole``, ``S2`` and ``diastole`` (extra sounds,
-        murmur spans) are left out.
+        murmur spans) are left out. Sound-only annotations (S1 and S2 without systole
+        or diastole rows) get the silences between the sounds filled in
+        (:data:`MAX_FILLED_GAP_S`).
     duration_s : float
         Length of the recording; every interval must lie within it.
     source : str
@@ -69,6 +76,8 @@ def segmentation_from_intervals(intervals: Sequence[tuple[float, float, str]],
             raise InputError(source, f"the {l0} interval {a0:g}-{b0:g} s overlaps the {l1} "
                              f"interval starting at {a1:g} s",
                              "give each moment at most one cycle state")
+    if not any(lab in ("systole", "diastole") for _, _, lab in rows):
+        rows = _with_silences(rows)
     segments = [Segment(max(a, 0.0), min(b, duration_s), lab) for a, b, lab in rows]
     beats = beats_from_segments(segments, [1.0] * len(segments))
     rr = np.array([bt.rr_s for bt in beats if bt.rr_s is not None])
@@ -84,3 +93,14 @@ def segmentation_from_intervals(intervals: Sequence[tuple[float, float, str]],
                if b - a >= UNCOVERED_MIN_S]
     return Segmentation(tuple(segments), beats, rhythm, tuple(skipped), None,
                         f"given: {Path(source).name}")
+
+
+def _with_silences(sounds: list[tuple[float, float, str]]) -> list[tuple[float, float, str]]:
+    """S1 and S2 rows with systole (S1 to S2) and diastole (S2 to S1) between them."""
+    out = []
+    for (a0, b0, l0), (a1, _, l1) in zip(sounds, sounds[1:]):
+        out.append((a0, b0, l0))
+        state = {("S1", "S2"): "systole", ("S2", "S1"): "diastole"}.get((l0, l1))
+        if state is not None and 0.0 < a1 - b0 < MAX_FILLED_GAP_S:
+            out.append((b0, a1, state))
+    return out + sounds[-1:]
