@@ -18,7 +18,6 @@ from eddyphone.findings.words import QUALITY_WORDS
 _PHASES = ("systolic", "diastolic", "continuous")
 _TIMINGS = ("early", "mid", "late", "holo")
 _SHAPES = ("crescendo", "decrescendo", "crescendo-decrescendo", "plateau")
-_WORDS = QUALITY_WORDS
 
 
 def findings_from_list(items: Sequence[Mapping[str, object]], *, presence: str | None = None,
@@ -92,9 +91,9 @@ def described_murmur(*, phase: str, timing: str, shape: str, dominant_frequency_
         if value not in allowed:
             raise ParameterError(f"{name} {value!r} is not one of {', '.join(allowed)}")
     words = tuple(quality_words)
-    bad = [w for w in words if w not in _WORDS]
+    bad = [w for w in words if w not in QUALITY_WORDS]
     if bad:
-        raise ParameterError(f"quality words {bad} are not among {', '.join(_WORDS)}")
+        raise ParameterError(f"quality words {bad} are not among {', '.join(QUALITY_WORDS)}")
     if not 25.0 <= float(dominant_frequency_hz) <= 900.0:
         raise ParameterError(f"dominant frequency {dominant_frequency_hz!r} Hz is outside "
                              "25-900 Hz, the band the analysis keeps")
