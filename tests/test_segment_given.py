@@ -102,6 +102,7 @@ def test_a_manifest_gives_each_recording_its_segments(tmp_path, capsys):
     ([(0.1, 0.2, "S1"), (0.2, 40.0, "systole")], "outside"),
     ([(0.3, 0.2, "S1")], "ends before it starts"),
     ([(0.1, 0.2, "S3"), (0.3, 0.5, "murmur")], "no S1, systole, S2 or diastole"),
+    ([(0.1, 0.2, "S2"), (0.2, 0.5, "systole"), (0.5, 0.6, "S1")], "no beat"),
 ])
 def test_impossible_segmentations_are_refused_naming_the_file(rows, why):
     with pytest.raises(InputError, match=why) as err:

@@ -56,7 +56,7 @@ def segmentation_from_intervals(intervals: Sequence[tuple[float, float, str]],
     ------
     InputError
         No cycle intervals, an interval that ends before it starts or lies outside the
-        recording, or two intervals that overlap.
+        recording, two intervals that overlap, or no beat (S1, systole, S2 in order).
     """
     rows = sorted((float(a), float(b), lab) for a, b, lab in intervals if lab in STATES)
     if not rows:
@@ -80,6 +80,9 @@ def segmentation_from_intervals(intervals: Sequence[tuple[float, float, str]],
         rows = _with_silences(rows)
     segments = [Segment(max(a, 0.0), min(b, duration_s), lab) for a, b, lab in rows]
     beats = beats_from_segments(segments, [1.0] * len(segments))
+    if not beats:
+        raise InputError(source, "holds no S1, systole, S2 run in that order, so no beat",
+                         "check the order of the labels (S1, systole, S2, diastole, S1 ...)")
     rr = np.array([bt.rr_s for bt in beats if bt.rr_s is not None])
     systoles = np.array([bt.systole_ms / 1000.0 for bt in beats])
     # the given beats are the estimate too (there is no autocorrelation to check them by)
