@@ -167,6 +167,31 @@ def test_numbered_states_of_a_segments_column_read_through_a_label_map(tmp_path)
 
 # --- feature rows -------------------------------------------------------------------
 
+def test_every_phase_has_its_own_murmur_columns():
+    # Researchers comparing murmurs by phase need them all, not only the main one. A
+    # contract with a systolic murmur (demo 03, narrowed outflow) and a diastolic one
+    # (demo 09's finding added, as a recording with both would carry them): each phase's
+    # columns repeat its own finding, the continuous ones say none.
+    import eddyphone
+    from _report_data import SAMPLE_AUDIO
+
+    data = eddyphone.analyze(SAMPLE_AUDIO / "03_older_adult_outflow.wav").to_dict()
+    leak = next(f for f in eddyphone.analyze(SAMPLE_AUDIO / "09_diastolic_leak.wav")
+                .to_dict()["findings"] if f["kind"] == "murmur")
+    data["findings"] = [*data["findings"], {**leak, "id": "m2"}]
+    row = recording_row(data)
+    sys_m = next(f for f in data["findings"] if f.get("phase") == "systolic")
+    for phase, m in (("systolic", sys_m), ("diastolic", leak)):
+        assert row[f"{phase}_murmur"] == m["presence"] == "present"
+        assert (row[f"{phase}_murmur_timing"], row[f"{phase}_murmur_shape"],
+                row[f"{phase}_murmur_pitch"]) == (m["timing"], m["shape"], m["pitch"])
+        assert (row[f"{phase}_murmur_grade_lo"], row[f"{phase}_murmur_grade_hi"]) == \
+            tuple(m["grade_range"])
+        assert row[f"{phase}_murmur_level_db_re_s1"] == m["level_db_re_s1"]
+    assert row["continuous_murmur"] == "none" and row["continuous_murmur_timing"] is None
+    assert row["findings_murmurs_n"] == 2
+
+
 def test_feature_row_matches_a_direct_analysis(study, reference):
     import eddyphone
 

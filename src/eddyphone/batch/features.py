@@ -21,6 +21,10 @@ columns                from
 ``main_murmur_*``      every field of the first murmur finding (nested
                        mappings flattened, ``grade_range`` as ``_lo``/``_hi``,
                        other numeric lists as JSON text)
+``<phase>_murmur*``    for each phase (systolic, diastolic, continuous), in
+                       every row: presence (``none`` when no murmur of that
+                       phase), timing, shape, pitch, grade range, level re
+                       S1, consistency
 ``has_<sound>``        extra sound found, with ``<sound>_timing_ms`` and
                        ``<sound>_confidence``
 ``mechanism_*``        score of each overall candidate; label and score of
@@ -48,6 +52,11 @@ from typing import Any
 #: Extra-sound kinds of the output contract; each gets a ``has_<kind>`` column
 #: (other kinds a later version reports get one too, in the rows that have them).
 EXTRA_SOUND_KINDS = ("S3", "S4", "split_S2", "ejection_click", "opening_snap")
+
+#: Murmur phases of the output contract; each gets its own columns in every row.
+PHASES = ("systolic", "diastolic", "continuous")
+#: The fields of each phase's murmur kept as ``<phase>_murmur_<field>``.
+PHASE_MURMUR_FIELDS = ("timing", "shape", "pitch", "level_db_re_s1", "consistency")
 
 _RECORDING_UNPREFIXED = ("site", "posture", "patient")
 _RECORDING_SKIP = ("source", "metadata", "conditioning")
@@ -194,6 +203,13 @@ def _finding_columns(findings: Sequence[Mapping[str, Any]]) -> dict[str, Any]:
     if murmurs:
         main = {k: v for k, v in murmurs[0].items() if k not in ("kind", "grade_note")}
         out.update(flatten(main, "main_murmur"))
+    for phase in PHASES:
+        m = next((f for f in murmurs if f.get("phase") == phase), None)
+        grade = list((m or {}).get("grade_range") or (None, None))
+        out[f"{phase}_murmur"] = m.get("presence") if m else "none"
+        for key in PHASE_MURMUR_FIELDS:
+            out[f"{phase}_murmur_{key}"] = scalar(m.get(key)) if m else None
+        out[f"{phase}_murmur_grade_lo"], out[f"{phase}_murmur_grade_hi"] = grade
     found: dict[str, Mapping[str, Any]] = {}
     for e in extras:  # the most confident of each kind
         kind = str(e.get("sound"))
