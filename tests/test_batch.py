@@ -172,8 +172,9 @@ def test_every_phase_has_its_own_murmur_columns():
     # contract with a systolic murmur (demo 03, narrowed outflow) and a diastolic one
     # (demo 09's finding added, as a recording with both would carry them): each phase's
     # columns repeat its own finding, the continuous ones say none.
-    import eddyphone
     from _report_data import SAMPLE_AUDIO
+
+    import eddyphone
 
     data = eddyphone.analyze(SAMPLE_AUDIO / "03_older_adult_outflow.wav").to_dict()
     leak = next(f for f in eddyphone.analyze(SAMPLE_AUDIO / "09_diastolic_leak.wav")
