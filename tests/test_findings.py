@@ -980,6 +980,28 @@ def test_patient_murmur_in_one_recording_only_is_possible():
     assert summarise_patient(per_site).presence == "present"
 
 
+def test_a_rumble_heard_at_the_apex_only_counts_for_the_patient():
+    # The rumble of a narrowed inflow valve stays at the apex (common practice), so a
+    # low-pitched diastolic murmur present at the mitral area alone is not demoted to
+    # 'possible' (patient._apical_rumble), even in under 80 % of its beats; the same
+    # murmur alone at the aortic area is. The murmur is demo 08's (simulator: narrowed
+    # inflow valve, mitral area), its consistency set to 0.7.
+    from eddyphone.findings.records import Findings
+    from eddyphone.simulate import demo_specs
+
+    _, f08 = _findings(demo_specs()["08_diastolic_rumble"])
+    rumble = replace(f08.main(), consistency=0.7)
+    assert (rumble.phase, rumble.pitch, rumble.presence) == ("diastolic", "low", "present")
+    alone = replace(f08, murmurs=(rumble,))
+    quiet = Findings((), (), (), "absent", "windows stay quiet")
+    others = ("aortic", "pulmonic", "tricuspid")
+    at_apex = summarise_patient({"mitral": alone, **{s: quiet for s in others}})
+    assert at_apex.presence == "present" and not at_apex.murmurs[0].possible
+    at_base = summarise_patient({"aortic": alone, **{s: quiet for s in
+                                                     ("pulmonic", "tricuspid", "mitral")}})
+    assert at_base.presence == "uncertain" and at_base.murmurs[0].possible
+
+
 def test_findings_read_back_from_their_json():
     # The output contract's findings list reads back into the same findings (what the
     # batch's patient table is built from): demo 08's murmur, opening snap and split
