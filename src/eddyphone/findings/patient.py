@@ -177,17 +177,22 @@ def _apical_rumble(phase: str, present: list[tuple[str, Murmur]]) -> bool:
     655 -> 659 and 601 -> 605, murmur-free patients called present 33 -> 33 and
     22 -> 23."""
     return phase == "diastolic" and all(
-        site.split(",")[0].split(" (")[0] == "mitral" and m.pitch == "low"
+        _site_of_label(site)[0] == "mitral" and m.pitch == "low"
         for site, m in present)
 
 
-def _area(site: str) -> str:
+def _site_of_label(label: str) -> tuple[str, str]:
+    """A site label split into the site and what tells repeats apart (see
+    :func:`_pairs`): 'mitral, sitting (2)' -> ('mitral', ', sitting (2)')."""
+    site = label.split(",")[0].split(" (")[0]
+    return site, label[len(site):]
+
+
+def _area(label: str) -> str:
     """'mitral' -> 'the mitral area'; 'mitral, sitting' -> 'the mitral area, sitting'."""
-    for known in ("aortic", "pulmonic", "tricuspid", "mitral"):
-        rest = site[len(known):]
-        if site.startswith(known) and (not rest or rest[0] in ", ("):
-            return f"the {known} area{rest}"
-    return site
+    site, rest = _site_of_label(label)
+    return f"the {site} area{rest}" if site in ("aortic", "pulmonic", "tricuspid", "mitral") \
+        else label
 
 
 def summarise_patient(analyses: Iterable | Mapping, *, patient_id: str | None = None

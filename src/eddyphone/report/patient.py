@@ -234,7 +234,7 @@ def _html(patient: str, summary: Any, analyses: Sequence[Any], explanation: Any,
     facts = [("Patient", patient), ("Recordings", str(len(analyses))),
              ("Sites", ", ".join(_site(a) for a in order_sites(analyses))),
              ("Patient context", text.context_words(analyses[0].context)
-              or "none given (the explanations state their defaults)")]
+              or text.NO_CONTEXT_WORDS)]
     top = explanation.top() if explanation is not None else None
     if top is not None:
         facts.append(("Most likely mechanism",

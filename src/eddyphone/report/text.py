@@ -408,6 +408,8 @@ def cautions(analysis: Any) -> list[str]:
     return out
 
 
+#: What the reports say when no patient context was given.
+NO_CONTEXT_WORDS = "none given (the explanations state their defaults)"
 #: Context fields in words: label and unit.
 _CONTEXT_WORDS = {"age_years": ("age", ""), "hematocrit": ("hematocrit", ""),
                   "heart_rate_bpm": ("heart rate", "/min"),
@@ -443,7 +445,7 @@ def provenance(analysis: Any) -> list[tuple[str, str]]:
         if value:
             info.append((label, str(value)))
     info.append(("Patient context", context_words(analysis.context)
-                 or "none given (the explanations state their defaults)"))
+                 or NO_CONTEXT_WORDS))
     info += [("eddyphone version", __version__),
              ("Configuration digest", analysis.config.digest()),
              ("Report written", datetime.now(timezone.utc).strftime("%Y-%m-%d %H:%M UTC"))]
