@@ -800,14 +800,14 @@ def test_medium_murmur_behind_a_high_pass_chain_is_not_read_high():
 
 
 def test_uncertain_murmur_names_the_rule_that_held_it_back():
-    # A benchmark recording (simulator truth: a carried early diastolic leak, 113
-    # bpm, flat chain) whose loud part lies under S2: the rest reads fainter than
-    # -25 dB re S1/S2 and shows in 75 % of the beats, under the 85 % that a faint
-    # murmur needs (FindingsConfig.faint_present_consistency, our own rule). The
-    # presence line must name that rule, not only the consistency.
+    # A benchmark recording (simulator truth: a carried diastolic leak, 124 bpm,
+    # behind the bell) that reads fainter than -25 dB re S1/S2 and shows in 15 of 18
+    # beats, under the 85 % that a faint murmur needs
+    # (FindingsConfig.faint_present_consistency, our own rule). The presence line
+    # must name that rule, not only the consistency.
     from eddyphone.simulate import benchmark_specs
 
-    spec = next(s for s in benchmark_specs(600, seed=1) if s.seed == 100340)
+    spec = next(s for s in benchmark_specs(600, seed=1) if s.seed == 100483)
     sim, f = _findings(spec)
     assert sim.truth["murmur"]["cause"] == "diastolic_leak"
     assert f.presence == "uncertain", f.presence_reason

@@ -579,3 +579,36 @@ def test_musical_murmur_tone_follows_vortex_shedding():
     assert f[np.argmax(p)] == pytest.approx(200.0, rel=0.05)
     plain, y = _render(MurmurSpec("systolic_leak", diameter_m=0.005, velocity_m_s=5.0))
     assert plain.quality == "blowing" and plain.tone_hz is None
+
+
+def test_diastolic_leak_fades_with_the_pressure_half_time():
+    # A leaking outflow valve: the aorta-to-ventricle gradient halves every pressure
+    # half-time, over 500 ms in a mild leak (regurgitant orifice under 0.10 cm2) and
+    # under 200 ms in a severe one (0.30 cm2 or more) (echocardiographic grading of
+    # aortic regurgitation, from memory); the jet's velocity goes as the square root of
+    # the gradient (simplified Bernoulli).
+    def d_from_cm2(area_cm2):
+        return float(np.sqrt(4.0 * area_cm2 * 1e-4 / np.pi))
+
+    pht = murmurs.leak_pressure_half_time_s
+    assert pht(d_from_cm2(0.10)) == pytest.approx(0.500, rel=1e-6)
+    assert pht(d_from_cm2(0.30)) == pytest.approx(0.200, rel=1e-6)
+    assert pht(d_from_cm2(0.07)) > 0.5 > pht(d_from_cm2(0.2)) > 0.2 > pht(d_from_cm2(0.35))
+
+    plan = murmurs.plan_murmur(MurmurSpec("diastolic_leak", diameter_m=d_from_cm2(0.2),
+                                          velocity_m_s=4.0))
+    beat = {"s1_start_s": 0.0, "ejection_s": 0.05, "a2_s": 0.35, "next_s1_s": 1.2,
+            "mitral_open_s": 0.43}
+    h = pht(plan.diameter_m)
+    t = np.array([0.35 + 0.05, 0.35 + 0.05 + h])
+    v = murmurs.beat_velocity(plan, t, beat, sinus=True)
+    assert (v[1] / v[0]) ** 2 == pytest.approx(0.5, rel=1e-3)
+
+    # rendered: a mild leak still sounds in late diastole, a severe one has faded
+    def late_level_db(area_cm2):
+        spec = CaseSpec(heart_rate_bpm=62, seed=5, murmur=MurmurSpec(
+            "diastolic_leak", diameter_m=d_from_cm2(area_cm2), velocity_m_s=4.2), **QUIET)
+        return generate(spec).truth["murmur"]["measured"]["profile_db"][7]
+
+    mild, severe = late_level_db(0.08), late_level_db(0.32)
+    assert mild > -10.0 and severe < mild - 10.0, (mild, severe)

@@ -120,11 +120,13 @@ def quality_words(*, pitch: str, tonality: float, relative_spread: float, roughn
     diastolic and low (the trade keeps the word for diastolic murmurs): low-pitched,
     or not high-pitched with its heard spectrum (``centroid_hz``, as recorded) below
     the low-pitch edge of :data:`~eddyphone.findings.config.PITCH_BOUNDARIES_HZ`,
-    except an ``early`` diastolic murmur (over by two thirds of diastole, the pattern
-    of a leaking outflow valve, whose murmur the trade calls blowing; the rumble is
+    except an ``early`` diastolic murmur (over by two thirds of diastole, as a leaking
+    outflow valve's murmur, which the trade calls blowing, often is; the rumble is
     mid-diastolic or fills diastole, common practice) unless its heard spectrum lies
-    below that edge; ``harsh`` when the envelope is rough (fast fluctuation at least
-    :data:`HARSH_ROUGHNESS` of its mean), ``blowing`` when smoother. Our own rules on the
+    below that edge (a leak that fills diastole is told from a rumble by its pitch
+    alone; docs/findings.md, round 7); ``harsh`` when the envelope is rough (fast
+    fluctuation at least :data:`HARSH_ROUGHNESS` of its mean), ``blowing`` when
+    smoother. Our own rules on the
     usual meanings: musical = tonal, rumbling = low and noisy, harsh = rough,
     blowing = smooth. ``relative_spread`` (spectral spread over centroid) is accepted
     for callers but not used by the rule.

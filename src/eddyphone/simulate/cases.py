@@ -109,7 +109,7 @@ def demo_specs() -> dict[str, CaseSpec]:
             heart_rate_bpm=64, site="tricuspid", device="diaphragm", snr_db=24, breathing=0.3,
             seed=109,
             murmur=MurmurSpec(cause="diastolic_leak", diameter_m=0.005, velocity_m_s=4.2),
-            note="Leaking outflow valve; early diastolic decrescendo"),
+            note="Leaking outflow valve; blowing decrescendo from A2 on through diastole"),
         "10_continuous_shunt": base.with_(
             heart_rate_bpm=96, site="pulmonic", device="diaphragm", snr_db=22, breathing=0.3,
             ectopic_rate=0.05, seed=110,
