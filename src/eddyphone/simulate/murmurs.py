@@ -130,7 +130,7 @@ PRESSURE_HALF_TIME_CONSTANT_S_CM2 = 0.220
 #: valve, by regurgitant orifice area (cm2, s): over 500 ms in a mild leak (orifice
 #: under 0.10 cm2), under 200 ms in a severe one (0.30 cm2 or more), the grading
 #: used in echocardiography (from memory). Log-linear between the two anchors,
-#: clipped to :data:`LEAK_HALF_TIME_RANGE_S`.
+#: clipped to :data:`LEAK_HALF_TIME_RANGE_S` (our own bounds).
 LEAK_HALF_TIME_ANCHORS = ((0.10, 0.500), (0.30, 0.200))
 LEAK_HALF_TIME_RANGE_S = (0.12, 0.80)
 
