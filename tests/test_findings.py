@@ -23,7 +23,7 @@ from eddyphone.findings import extra as extra_mod
 from eddyphone.findings.config import PITCH_BOUNDARIES_HZ, TIMING_THIRDS, pitch_word
 from eddyphone.findings.grade import MAX_AUDIO_GRADE, grade_range
 from eddyphone.findings.measures import beat_windows, spectrogram
-from eddyphone.findings.murmur import noise_relative_centroid_hz
+from eddyphone.findings.spectrum import noise_relative_centroid_hz
 from eddyphone.findings.words import (
     continuous_words,
     quality_words,
@@ -700,7 +700,7 @@ def test_murmur_bands_do_not_skip_an_octave():
     # 6 dB of its peak, FindingsConfig.min_low_murmur_s), and the 40-ms decrescendo
     # is set aside as a transient. With 75-300 Hz raised as well (a broadband
     # murmur) all four bands are kept and the same course is a murmur.
-    from eddyphone.findings.murmur import _judge_run
+    from eddyphone.findings.candidates import judge_run
 
     cfg = FindingsConfig()
     n_bins, bin_s = 12, 0.01
@@ -708,10 +708,10 @@ def test_murmur_bands_do_not_skip_an_octave():
     M = np.zeros((2, 5, n_bins))
     M[0, 0, :5] = [20.0, 18.0, 12.0, 8.0, 5.0]
     M[0, 3, :5] = [8.0, 8.0, 7.0, 7.0, 6.0]
-    cand, _, low_only, _ = _judge_run(M, 0, [0, 3], 0, 5, bin_s, dur, cfg)
+    cand, _, low_only, _ = judge_run(M, 0, [0, 3], 0, 5, bin_s, dur, cfg)
     assert low_only and cand is None
     M[0, 1, :5] = M[0, 2, :5] = [9.0, 9.0, 8.0, 8.0, 7.0]
-    cand, _, low_only, _ = _judge_run(M, 0, [0, 1, 2, 3], 0, 5, bin_s, dur, cfg)
+    cand, _, low_only, _ = judge_run(M, 0, [0, 1, 2, 3], 0, 5, bin_s, dur, cfg)
     assert not low_only and cand is not None and cand.bands == (0, 1, 2, 3)
     # a band between that stands out of its floor (4 dB, FindingsConfig.excess_db)
     # but more than 15 dB under the strongest still joins the bands on either side
@@ -719,7 +719,7 @@ def test_murmur_bands_do_not_skip_an_octave():
     M[0, 1, :5] = [28.0, 27.0, 25.0, 22.0, 20.0]
     M[0, 2, :5] = [10.0, 10.0, 9.0, 9.0, 8.0]
     M[0, 3, :5] = [30.0, 30.0, 28.0, 27.0, 26.0]
-    cand, _, _, _ = _judge_run(M, 0, [0, 1, 3], 0, 5, bin_s, dur, cfg)
+    cand, _, _, _ = judge_run(M, 0, [0, 1, 3], 0, 5, bin_s, dur, cfg)
     assert cand is not None and cand.bands == (0, 1, 3)
 
 

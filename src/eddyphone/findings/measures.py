@@ -30,6 +30,8 @@ MIN_WINDOW_S = 0.05
 
 #: Window indices in :class:`Profiles` arrays.
 SYS, DIA = 0, 1
+#: The windows' phase names, by index.
+PHASES = ("systolic", "diastolic")
 
 
 @dataclass(frozen=True, eq=False)

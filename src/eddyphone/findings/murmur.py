@@ -12,7 +12,8 @@ Method (our own arrangement of standard measures):
    ``z_active`` standard errors across beats. A murmur is the strongest run of
    active bins in a window that lasts ``min_murmur_s`` and stays within 6 dB of its
    peak for ``min_sustained_s`` (``min_low_murmur_s`` when confined below 150 Hz),
-   all shortened in short windows; this tells it from S3, S4, clicks and tails.
+   all shortened in short windows; this tells it from S3, S4, clicks and tails
+   (:mod:`eddyphone.findings.candidates`).
 4. Each beat is checked for the murmur against a null built from the same number
    of murmur-free bins in the other window of the same beats; the fraction of
    beats beating 90 % of that null is the consistency (a faint but steady murmur is
@@ -24,8 +25,8 @@ Method (our own arrangement of standard measures):
    noise floor so the device's tilt does not let one band stand for the murmur
    (edges at :data:`EXTENT_DB` under its peak, mapped back to the whole window);
    pitch from where the excess spectrum (murmur frames minus quiet frames) stands
-   out of the quiet frames (:func:`noise_relative_centroid_hz`), quality words
-   from the excess spectrum and the envelope roughness, the grade from the peak
+   out of the quiet frames, quality words from the excess spectrum and the envelope
+   roughness (:mod:`eddyphone.findings.spectrum`), the grade from the peak
    excess power relative to the louder of S1 and S2.
 6. A murmur is continuous when a systolic and a diastolic murmur meet at S2, or when
    a systolic murmur reaching S2 stands only a few dB over late diastole and fades
@@ -36,7 +37,6 @@ Method (our own arrangement of standard measures):
 Public functions
 ----------------
 find_murmurs(spec, profiles, config) -> MurmurSearch
-noise_relative_centroid_hz(f_hz, excess, noise) -> float
 
 The words (timing, shape, quality) are in :mod:`eddyphone.findings.words`, the pitch
 word in :mod:`eddyphone.findings.config`.
@@ -50,17 +50,17 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from eddyphone.condition import trimmed_mean
+from eddyphone.findings.candidates import Candidate, find_candidates, runs
 from eddyphone.findings.config import (
     PITCH_BOUNDARIES_RE_NOISE_HZ,
     FindingsConfig,
     pitch_word,
 )
 from eddyphone.findings.grade import grade_range
-from eddyphone.findings.measures import DIA, SYS, Profiles, Spectrogram
+from eddyphone.findings.measures import DIA, PHASES, SYS, Profiles, Spectrogram
 from eddyphone.findings.records import GRADE_NOTE, Murmur
+from eddyphone.findings.spectrum import envelope_roughness, excess_spectrum
 from eddyphone.findings.words import continuous_words, quality_words, shape_word, timing_word
-
-PHASES = ("systolic", "diastolic")
 
 #: Fraction trimmed from each end when averaging over beats: the interquartile mean,
 #: which ignores friction bursts, crackles and other sounds not locked to the cycle
@@ -163,11 +163,6 @@ HOLO_EDGE_DB = 4.0
 #: at the extent threshold is about a quarter frame, not half (our own setting).
 EDGE_SMEAR_FRAMES = 0.25
 
-#: Smoothing (octaves) of the murmur and noise-floor spectra before the pitch
-#: measure (:func:`noise_relative_centroid_hz`): third octaves, about the ear's
-#: critical bands at these frequencies (common practice).
-PITCH_SMOOTHING_OCT = 1.0 / 3.0
-
 #: A musical (tonal) excess seen in fewer than this fraction of the beats is not
 #: reported even as a possible murmur: a murmur is locked to the cycle, while a
 #: wheeze or a voice in the room comes and goes with breathing and speech (our own
@@ -264,192 +259,6 @@ def _block_means(v: np.ndarray, size: int) -> np.ndarray:
     return np.array(out) if out else np.array([v.mean()])
 
 
-def _fill_gaps(mask: np.ndarray, gap: int = 1) -> np.ndarray:
-    m = mask.copy()
-    idx = np.flatnonzero(m)
-    for a, b in zip(idx[:-1], idx[1:]):
-        if 1 < b - a <= gap + 1:
-            m[a:b] = True
-    return m
-
-
-def _runs(mask: np.ndarray) -> list[tuple[int, int]]:
-    edges = np.flatnonzero(np.diff(np.concatenate([[0], mask.astype(int), [0]])))
-    return [(int(a), int(b)) for a, b in zip(edges[::2], edges[1::2])]
-
-
-def _contiguous_block(bands: list[int], top: int) -> list[int]:
-    """The run of consecutive band indices in ``bands`` that holds ``top``: a
-    turbulent murmur's spectrum is smooth, so its excess over the same recording's
-    floor does not skip an octave band; bands standing out beyond a gap belong to
-    another sound (our own rule)."""
-    out = [top]
-    while out[0] - 1 in bands:
-        out.insert(0, out[0] - 1)
-    while out[-1] + 1 in bands:
-        out.append(out[-1] + 1)
-    return out
-
-
-@dataclass(frozen=True)
-class _Candidate:
-    window: int
-    bands: tuple[int, ...]
-    k0: int
-    k1: int  # exclusive
-    peak_db: float
-
-
-def _judge_run(M: np.ndarray, w: int, bands: list[int], s: int, e: int, bin_s: float,
-               dur_s: np.ndarray, cfg: FindingsConfig) -> tuple[_Candidate | None, float, bool,
-                                                             np.ndarray]:
-    """A run of active bins judged as a murmur: the candidate (or None when it is a
-    transient), how long it stays within 6 dB of its peak, whether it lies below
-    150 Hz only, and its excess in dB averaged over its bands."""
-    # bands that carry it (within 15 dB of its strongest band); nothing above
-    # 150 Hz means it sounds like S3, S4 or a sound tail
-    peak_b = M[w][bands][:, s:e].max(axis=1)
-    top = bands[int(np.argmax(peak_b))]
-    bands = [b for b, pk in zip(bands, peak_b) if pk >= peak_b.max() - 15.0]
-    # ... around the strongest without a gap (a band between counts when it stands
-    # out of its floor in the run, even more than 15 dB under the strongest)
-    raised = {b for b in range(M.shape[1]) if M[w][b, s:e].max() >= cfg.excess_db}
-    block = _contiguous_block(sorted(raised | set(bands)), top)
-    bands = [b for b in bands if b in block]
-    # how long it stays within 6 dB of its peak, on its excess in dB averaged
-    # over those bands (a power sum lets one loud band and bin, such as a heart
-    # sound's tail at the window's edge, make a long murmur look short)
-    mdb = M[w][bands][:, s:e].mean(axis=0)
-    sustained_s = int(np.sum(mdb >= mdb.max() - 6.0)) * bin_s
-    low_only = max(bands) <= 1
-    need = (min(cfg.min_low_murmur_s, 0.5 * dur_s[w]) if low_only
-            else min(cfg.min_sustained_s, 0.25 * dur_s[w]))
-    if sustained_s < need:
-        return None, sustained_s, low_only, mdb
-    return (_Candidate(w, tuple(bands), s, e, float(M[w][bands][:, s:e].max())),
-            sustained_s, low_only, mdb)
-
-
-def _candidates(M: np.ndarray, active: np.ndarray, X: np.ndarray, dur_s: np.ndarray,
-                cfg: FindingsConfig, rejected: list[str]) -> list[_Candidate]:
-    n_bins = M.shape[2]
-    n_min = 2
-    out = []
-    for w in (SYS, DIA):
-        act = active[w]
-        bands = []
-        for b in range(M.shape[1]):
-            runs = _runs(_fill_gaps(act[b]))
-            if runs and max(e - s for s, e in runs) >= n_min:
-                bands.append(b)
-        if not bands:
-            continue
-        union = _fill_gaps(act[bands].any(axis=0))
-        runs = _runs(union)
-        s, e = max(runs, key=lambda r: (X[w, r[0]:r[1]].sum(), r[1] - r[0]))
-        bin_s = dur_s[w] / n_bins
-        # absolute durations, shortened in short windows (fast rates)
-        shortest = min(cfg.min_murmur_s, 0.4 * dur_s[w])
-        if e - s < 2 or (e - s) * bin_s < shortest:
-            continue
-        cand, sustained_s, low_only, mdb = _judge_run(M, w, bands, s, e, bin_s, dur_s, cfg)
-        if cand is None:
-            # the run's loudest part is a transient (an S3, S4, click or snap in the
-            # same window as a murmur): set it aside with a bin on each side and
-            # judge what is left of the run on its own
-            loud = np.flatnonzero(mdb >= mdb.max() - 6.0)
-            a0, a1 = s + max(int(loud[0]) - 1, 0), s + min(int(loud[-1]) + 2, e - s)
-            pieces = [(p0, p1) for p0, p1 in ((s, a0), (a1, e))
-                      if p1 - p0 >= 2 and (p1 - p0) * bin_s >= shortest]
-            for p0, p1 in sorted(pieces, key=lambda r: -X[w, r[0]:r[1]].sum()):
-                cand = _judge_run(M, w, bands, p0, p1, bin_s, dur_s, cfg)[0]
-                if cand is not None:
-                    break
-        if cand is None:
-            rejected.append(f"a short {'low-pitched ' if low_only else ''}{PHASES[w]} "
-                            f"transient ({sustained_s * 1000:.0f} ms within 6 dB of its "
-                            "peak) is not counted as a murmur")
-            continue
-        out.append(cand)
-    return out
-
-
-def _spectral(spec: Spectrogram, prof: Profiles, use: np.ndarray, w: int, k0: int, k1: int,
-              quiet: np.ndarray, n_bins: int, fs: float) -> dict:
-    """Excess spectrum of the murmur: its frames minus the beat's quiet frames."""
-    act_spectra, quiet_spectra = [], []
-    for i in np.flatnonzero(use):
-        a, b = prof.windows_s[i, w]
-        edges = np.linspace(a, b, n_bins + 1)
-        ia, ib = np.searchsorted(spec.t, [edges[k0], edges[k1]])
-        if ib <= ia:
-            continue
-        act_spectra.append(spec.power[ia:ib].mean(axis=0))
-        qs = []
-        for ww in (SYS, DIA):
-            aa, bb = prof.windows_s[i, ww]
-            ed = np.linspace(aa, bb, n_bins + 1)
-            for k in np.flatnonzero(quiet[ww]):
-                ja, jb = np.searchsorted(spec.t, [ed[k], ed[k + 1]])
-                if jb > ja:
-                    qs.append(spec.power[ja:jb].mean(axis=0))
-        quiet_spectra.append(np.mean(qs, axis=0) if qs else np.zeros_like(spec.f))
-    f = spec.f
-    if not act_spectra:
-        return {"centroid_hz": float("nan"), "dominant_hz": float("nan"), "spread": 0.0,
-                "tonality": 0.0, "excess": np.zeros_like(f)}
-    excess = np.median(np.array(act_spectra) - np.array(quiet_spectra), axis=0)
-    excess = np.clip(excess, 0.0, None)
-    band = (f >= 25.0) & (f <= min(900.0, 0.45 * fs))
-    excess = np.where(band, excess, 0.0)
-    total = excess.sum()
-    if total <= 0:
-        return {"centroid_hz": float("nan"), "dominant_hz": float("nan"), "spread": 0.0,
-                "tonality": 0.0, "excess": excess, "noise_relative_hz": float("nan")}
-    noise_rel = noise_relative_centroid_hz(f[band], excess[band],
-                                           np.median(np.array(quiet_spectra), axis=0)[band])
-    smooth = np.convolve(excess, np.ones(3) / 3.0, mode="same")
-    k = int(np.argmax(smooth))
-    centroid = float(np.sum(f * excess) / total)
-    spread = float(np.sqrt(np.sum((f - centroid) ** 2 * excess) / total))
-    # tonality: energy share within +/-1 bin of the peak, mapped so broadband noise
-    # (which puts about 3 bins' worth there) reads near 0 and a pure tone near 1
-    share = float(excess[max(k - 1, 0): k + 2].sum() / total)
-    n_eff = max(int(band.sum()), 4)
-    base = min(3.0 / n_eff * 3.0, 0.6)
-    tonality = float(np.clip((share - base) / (0.85 - base), 0.0, 1.0))
-    return {"centroid_hz": centroid, "dominant_hz": float(f[k]), "spread": spread,
-            "tonality": tonality, "excess": excess, "noise_relative_hz": noise_rel}
-
-
-def _octave_smooth(f: np.ndarray, p: np.ndarray, width_oct: float) -> np.ndarray:
-    """Mean of ``p`` over a ``width_oct``-wide band centred (in octaves) on each ``f``."""
-    lf = np.log2(np.maximum(f, 1e-9))
-    out = np.empty_like(p, dtype=float)
-    for i, c in enumerate(lf):
-        out[i] = p[np.abs(lf - c) <= 0.5 * width_oct].mean()
-    return out
-
-
-def noise_relative_centroid_hz(f_hz: np.ndarray, excess: np.ndarray, noise: np.ndarray,
-                               width_oct: float = PITCH_SMOOTHING_OCT) -> float:
-    """Where a murmur stands out of the recording's own noise floor, in Hz.
-
-    Log-frequency centroid of ``excess`` (murmur power above the floor) weighted
-    by how many dB it stands over ``noise`` (the quiet parts of the same beats),
-    both smoothed over ``width_oct`` octaves. Murmur and floor pass through the
-    same stethoscope, so a device tilt scales both alike and cancels; NaN when the
-    murmur nowhere stands over the floor.
-    """
-    f = np.asarray(f_hz, dtype=float)
-    m = _octave_smooth(f, np.asarray(excess, dtype=float), width_oct)
-    q = np.maximum(_octave_smooth(f, np.asarray(noise, dtype=float), width_oct), 1e-30)
-    w = np.clip(10.0 * np.log10(np.maximum(m, 1e-30) / q), 0.0, None)
-    if not np.any(w > 0):
-        return float("nan")
-    return float(np.exp(np.sum(w * np.log(np.maximum(f, 1e-9))) / np.sum(w)))
-
-
 def _accent(profile: np.ndarray, rise_db: float = 1.5, floor: float = 0.3) -> bool:
     """True when the last quarter of a diastolic profile (peak 1) rises ``rise_db`` or
     more above the lowest point of the middle half and reaches ``floor`` of the peak:
@@ -460,31 +269,6 @@ def _accent(profile: np.ndarray, rise_db: float = 1.5, floor: float = 0.3) -> bo
     if len(mid) == 0 or len(tail) == 0 or mid.min() <= 0 or tail.max() < floor:
         return False
     return bool(10.0 * np.log10(tail.max() / mid.min()) >= rise_db)
-
-
-def _roughness(spec: Spectrogram, prof: Profiles, use: np.ndarray, w: int, k0: int, k1: int,
-               bands: tuple[int, ...], n_bins: int) -> float:
-    """Fast (roughly 10-40 Hz) fluctuation of the murmur-band envelope, relative to its
-    mean, after removing what band-limited noise of the same width shows by itself."""
-    vals = []
-    hop = float(np.median(np.diff(spec.t))) if len(spec.t) > 1 else 0.004
-    for i in np.flatnonzero(use):
-        a, b = prof.windows_s[i, w]
-        edges = np.linspace(a, b, n_bins + 1)
-        ia, ib = np.searchsorted(spec.t, [edges[k0], edges[k1]])
-        if ib - ia < 8:
-            continue
-        env = np.sqrt(spec.band_power[list(bands), ia:ib].sum(axis=0))
-        # detrend with a ~50 ms moving average: what remains is the fast roughness
-        m = max(3, int(round(0.05 / hop)))
-        if len(env) <= 2 * m:
-            continue
-        slow = np.convolve(env, np.ones(m) / m, mode="same")
-        fast = env - slow
-        vals.append(float(np.std(fast[m // 2: len(fast) - m // 2]) / (np.mean(env) + 1e-30)))
-    if not vals:
-        return 0.0
-    return float(np.median(vals))
 
 
 def _snr_profile(ratio: np.ndarray, ref: np.ndarray, bands: list[int]) -> np.ndarray:
@@ -559,7 +343,7 @@ def _continues(stat: dict) -> bool:
                            and stat["decay_t"] <= CONT_DECAY_T)
 
 
-def _beat_evidence(R: np.ndarray, M: np.ndarray, c: _Candidate, quiet: np.ndarray,
+def _beat_evidence(R: np.ndarray, M: np.ndarray, c: Candidate, quiet: np.ndarray,
                    cfg: FindingsConfig) -> tuple[np.ndarray, np.ndarray, float, dict | None]:
     """Which beats show candidate ``c``: each beat's excess over its murmur bins (dB,
     re the same beat's quiet bins), the beats that show it, the consistency, and the
@@ -583,7 +367,7 @@ def _beat_evidence(R: np.ndarray, M: np.ndarray, c: _Candidate, quiet: np.ndarra
         # a murmur spanning more bins than the other window has free in a row:
         # the null uses the longest free run (shorter runs vary more, so the
         # threshold errs on the side of caution)
-        free = [e - s for s, e in _runs(ok)]
+        free = [e - s for s, e in runs(ok)]
         if free and max(free) >= 2:
             width = max(free)
             starts = [k for k in range(n_bins - width + 1) if ok[k:k + width].all()]
@@ -635,7 +419,7 @@ class _Course:
     peak_fraction: float
 
 
-def _course_words(full: np.ndarray, c: _Candidate, *, guard_s: float, length_s: float,
+def _course_words(full: np.ndarray, c: Candidate, *, guard_s: float, length_s: float,
                   frame_s: float) -> _Course:
     """Extent, timing, shape and peak of candidate ``c`` from its time course ``full``
     (bins over the window less ``guard_s`` at each end, ``length_s`` long; peak 1)
@@ -730,7 +514,7 @@ def find_murmurs(spec: Spectrogram, prof: Profiles, config: FindingsConfig,
         M / np.maximum(se, 1e-9), cfg.z_active)
     active = strong | faint
     rejected: list[str] = []
-    cands = _candidates(M, active, X, dur_s, cfg, rejected)
+    cands = find_candidates(M, active, X, dur_s, cfg, rejected)
     through: dict = {}
     evidence: dict = {}
     spill_profile: tuple[float, ...] | None = None
@@ -805,8 +589,8 @@ def find_murmurs(spec: Spectrogram, prof: Profiles, config: FindingsConfig,
                                 / max(float(np.median(hs_power[use])), 1e-30))
         level_s1 = 10.0 * np.log10(max(float(np.median(peak_pow)), 1e-30)
                                    / max(float(np.median(s1_power[use])), 1e-30))
-        sp = _spectral(spec, prof, use, c.window, c.k0, c.k1, quiet, n_bins, fs)
-        rough = _roughness(spec, prof, use, c.window, c.k0, c.k1, c.bands, n_bins)
+        sp = excess_spectrum(spec, prof, use, c.window, c.k0, c.k1, quiet, n_bins, fs)
+        rough = envelope_roughness(spec, prof, use, c.window, c.k0, c.k1, c.bands, n_bins)
         centroid = sp["centroid_hz"]
         rel_hz = sp["noise_relative_hz"]
         pitch = (pitch_word(rel_hz, PITCH_BOUNDARIES_RE_NOISE_HZ) if np.isfinite(rel_hz)

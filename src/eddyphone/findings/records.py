@@ -52,7 +52,7 @@ class Murmur:
     shape_confidence : float
     pitch : {'low', 'medium', 'high'}
         From where the murmur stands out of the same recording's noise floor
-        (``findings.murmur.noise_relative_centroid_hz`` on
+        (``findings.spectrum.noise_relative_centroid_hz`` on
         ``findings.config.PITCH_BOUNDARIES_RE_NOISE_HZ``), which a device tilt
         does not move.
     dominant_frequency_hz, centroid_hz : float

@@ -1,7 +1,8 @@
 """The trade's words for a murmur from its measures: timing, shape and quality.
 
 Pure functions of fractions, profiles and spectral measures; the measuring is in
-:mod:`eddyphone.findings.murmur`.
+:mod:`eddyphone.findings.murmur` (with :mod:`~eddyphone.findings.candidates` and
+:mod:`~eddyphone.findings.spectrum`).
 
 Public functions
 ----------------
