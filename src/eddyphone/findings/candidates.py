@@ -61,8 +61,8 @@ class Candidate:
 
 
 def judge_run(M: np.ndarray, w: int, bands: list[int], s: int, e: int, bin_s: float,
-               dur_s: np.ndarray, cfg: FindingsConfig) -> tuple[Candidate | None, float, bool,
-                                                             np.ndarray]:
+              dur_s: np.ndarray, cfg: FindingsConfig
+              ) -> tuple[Candidate | None, float, bool, np.ndarray]:
     """A run of active bins judged as a murmur: the candidate (or None when it is a
     transient), how long it stays within 6 dB of its peak, whether it lies below
     150 Hz only, and its excess in dB averaged over its bands."""

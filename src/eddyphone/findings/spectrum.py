@@ -21,8 +21,8 @@ from eddyphone.findings.measures import DIA, SYS, Profiles, Spectrogram
 PITCH_SMOOTHING_OCT = 1.0 / 3.0
 
 
-def excess_spectrum(spec: Spectrogram, prof: Profiles, use: np.ndarray, w: int, k0: int, k1: int,
-              quiet: np.ndarray, n_bins: int, fs: float) -> dict:
+def excess_spectrum(spec: Spectrogram, prof: Profiles, use: np.ndarray, w: int, k0: int,
+                    k1: int, quiet: np.ndarray, n_bins: int, fs: float) -> dict:
     """Excess spectrum of the murmur: its frames minus the beat's quiet frames."""
     act_spectra, quiet_spectra = [], []
     for i in np.flatnonzero(use):
@@ -97,8 +97,8 @@ def noise_relative_centroid_hz(f_hz: np.ndarray, excess: np.ndarray, noise: np.n
     return float(np.exp(np.sum(w * np.log(np.maximum(f, 1e-9))) / np.sum(w)))
 
 
-def envelope_roughness(spec: Spectrogram, prof: Profiles, use: np.ndarray, w: int, k0: int, k1: int,
-               bands: tuple[int, ...], n_bins: int) -> float:
+def envelope_roughness(spec: Spectrogram, prof: Profiles, use: np.ndarray, w: int, k0: int,
+                       k1: int, bands: tuple[int, ...], n_bins: int) -> float:
     """Fast (roughly 10-40 Hz) fluctuation of the murmur-band envelope, relative to its
     mean, after removing what band-limited noise of the same width shows by itself."""
     vals = []
