@@ -127,10 +127,9 @@ def quality_words(*, pitch: str, tonality: float, relative_spread: float, roughn
     below that edge (a leak that fills diastole is told from a rumble by its pitch
     alone; docs/findings.md, round 7); ``harsh`` when the envelope is rough (fast
     fluctuation at least :data:`HARSH_ROUGHNESS` of its mean), ``blowing`` when
-    smoother. Our own rules on the
-    usual meanings: musical = tonal, rumbling = low and noisy, harsh = rough,
-    blowing = smooth. ``relative_spread`` (spectral spread over centroid) is accepted
-    for callers but not used by the rule.
+    smoother. Our own rules on the usual meanings: musical = tonal, rumbling = low and
+    noisy, harsh = rough, blowing = smooth. ``relative_spread`` (spectral spread over
+    centroid) is accepted for callers but not used by the rule.
     """
     if tonality >= tonal_threshold and dominant_hz >= MIN_TONAL_HZ:
         return ("musical",)
